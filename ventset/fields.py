@@ -1,0 +1,131 @@
+"""Each user input declared once: label, unit, hard limits, help. Drives CLI, validation and GUI.
+
+Hard limits reject nonsense (a negative mass, FiO2 of 3); what is merely unusual for a species
+is left to the cautions. No Qt here: the GUI picks widgets from ``kind``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from ventset.errors import InputError
+from ventset.units import check_range, parse_quantity
+
+
+@dataclass(frozen=True)
+class FieldSpec:
+    """One input. ``unit`` is the internal unit; ``units`` the choices offered for entry."""
+
+    key: str
+    label: str
+    path: str
+    unit: str
+    units: tuple[str, ...]
+    lo: float | None
+    hi: float | None
+    help: str
+    lo_open: bool = True
+    group: str = "patient"
+
+
+FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
+    FieldSpec("mass", "Body mass", "patient.mass_kg", "kg", ("kg", "g", "lb"), 0.001, 10000,
+              "Body mass as weighed. Any mass unit: '20 kg', '44 lb', '300 g'."),
+    FieldSpec("lean-mass", "Lean (ideal) mass", "patient.lean_mass_kg", "kg", ("kg", "g", "lb"), 0.001, 10000,
+              "Lean or ideal body mass for an obese patient; tidal volume, lung size and metabolism follow it "
+              "(common practice). Default: the body mass."),
+    FieldSpec("body-temperature", "Body temperature", "patient.body_temp_c", "degC", ("degC", "degF"), 0.0, 45.0,
+              "Core body temperature; corrects metabolic rate (Q10) and water vapour pressure. "
+              "Default: the species' normal value (reptiles: middle of the preferred temperature zone).",
+              lo_open=False),
+    FieldSpec("metabolic-rate", "Metabolic rate", "patient.metabolic_rate_w", "W", ("W", "kcal/day", "kJ/h"),
+              0.0, 1e5, "Measured or estimated metabolic rate ('60 W', '1200 kcal/day', '250 kJ/h'). "
+              "Default: allometric estimate for the species' metabolic group."),
+    FieldSpec("rq", "Respiratory quotient", "patient.rq", "", ("",), 0.6, 1.3,
+              "VCO2/VO2. Default 0.8 for a fasted patient (common practice).", lo_open=False),
+    FieldSpec("alveolar-dead-space", "Alveolar dead-space fraction", "patient.alveolar_dead_space_fraction", "",
+              ("",), 0.0, 0.8, "Fraction of each breath reaching unperfused alveoli. Default: species value.",
+              lo_open=False),
+    FieldSpec("compliance", "Respiratory-system compliance", "patient.compliance_ml_cmh2o", "mL/cmH2O",
+              ("mL/cmH2O", "L/cmH2O"), 0.0, 1e5, "Measured static compliance of the whole respiratory system. "
+              "Default: species value per kg lean mass."),
+    FieldSpec("resistance", "Airway resistance", "patient.resistance_cmh2o_l_s", "cmH2O*s/L", ("cmH2O*s/L",),
+              0.0, 1e5, "Inspiratory resistance including the tube, cmH2O/(L/s). Default: species value scaled "
+              "by mass."),
+    FieldSpec("tube-id", "Tube internal diameter", "circuit.tube_id_mm", "mm", ("mm",), 0.0, 60.0,
+              "Endotracheal tube internal diameter.", group="circuit"),
+    FieldSpec("tube-length", "Tube beyond incisors", "circuit.tube_length_cm", "cm", ("cm", "mm"), 0.0, 100.0,
+              "Length of tube (and connector) from the incisors to the circuit; its volume is dead space.",
+              lo_open=False, group="circuit"),
+    FieldSpec("compressible-volume", "Circuit compressible volume", "circuit.compressible_ml_cmh2o", "mL/cmH2O",
+              ("mL/cmH2O",), 0.0, 500.0, "Volume the circuit absorbs per cmH2O (from the machine's leak/"
+              "compliance test). Default: typical for the circuit type.", lo_open=False, group="circuit"),
+    FieldSpec("sampling-flow", "Gas sampling flow", "circuit.sampling_ml_min", "mL/min", ("mL/min", "L/min"),
+              0.0, 2000.0, "Sidestream analyser flow not returned to the circuit; adds to the minimum oxygen flow.",
+              lo_open=False, group="circuit"),
+    FieldSpec("target-paco2", "Target PaCO2", "targets.paco2_mmhg", "mmHg", ("mmHg", "kPa"), 10.0, 120.0,
+              "Arterial CO2 to aim for. Default: species start value.", group="targets"),
+    FieldSpec("target-etco2", "Target EtCO2", "targets.etco2_mmhg", "mmHg", ("mmHg", "kPa"), 5.0, 120.0,
+              "End-tidal CO2 to aim for; PaCO2 = EtCO2 + gradient.", group="targets"),
+    FieldSpec("gradient", "PaCO2 − EtCO2 gradient", "targets.gradient_mmhg", "mmHg", ("mmHg", "kPa"), -30.0, 60.0,
+              "Arterial minus end-tidal CO2. Default: species value.", lo_open=False, group="targets"),
+    FieldSpec("peep", "PEEP", "targets.peep_cmh2o", "cmH2O", ("cmH2O", "mbar", "hPa"), 0.0, 30.0,
+              "Positive end-expiratory pressure. Default: species value.", lo_open=False, group="targets"),
+    FieldSpec("ie", "I:E (expiratory part)", "targets.ie_expiratory_part", "", ("",), 0.25, 20.0,
+              "E in I:E = 1:E (2 means 1:2). Default: species value.", lo_open=False, group="targets"),
+    FieldSpec("pressure-limit", "Pressure limit", "targets.pressure_limit_cmh2o", "cmH2O", ("cmH2O", "mbar", "hPa"),
+              1.0, 80.0, "Highest airway pressure the plan may use. Default: species value.", lo_open=False,
+              group="targets"),
+    FieldSpec("fio2", "FiO2", "targets.fio2", "", ("", "percent"), 0.21, 1.0,
+              "Inspired O2 fraction, 0.21-1 (or '50 %'). Default 1.0 under inhalant anaesthesia (common practice).",
+              lo_open=False, group="targets"),
+    FieldSpec("altitude", "Altitude", "targets.altitude_m", "m", ("m", "ft"), -500.0, 6000.0,
+              "Clinic altitude; gives barometric pressure by the ISA standard atmosphere.", lo_open=False,
+              group="targets"),
+    FieldSpec("barometric-pressure", "Barometric pressure", "targets.barometric_mmhg", "mmHg", ("mmHg", "kPa"),
+              300.0, 800.0, "Measured barometric pressure; overrides altitude.", lo_open=False, group="targets"),
+    FieldSpec("vt-per-kg", "Tidal volume per kg", "strategy.vt_ml_kg", "mL/kg", ("mL/kg",), 0.0, 60.0,
+              "Tidal volume per kg lean mass to start from. Default: species start value.", group="strategy"),
+    FieldSpec("rate", "Rate", "strategy.rate_per_min", "1/min", ("1/min",), 0.0, 300.0,
+              "Breath rate to hold; tidal volume then follows from the target.", group="strategy"),
+)}
+
+
+def parse_field(key: str, text: object) -> float:
+    """Parse and range-check one input by its key; raises InputError naming the field."""
+    spec = FIELDS[key]
+    if key == "fio2":
+        value = parse_quantity(text, "", spec.label) if _plain(text) else parse_quantity(text, "percent",
+                                                                                          spec.label) / 100
+    elif spec.unit == "":
+        value = parse_quantity(text, "", spec.label)
+    else:
+        value = parse_quantity(text, spec.unit, spec.label)
+    return check_range(value, spec.lo, spec.hi, spec.label, _shown_unit(spec.unit), lo_open=spec.lo_open)
+
+
+def _plain(text: object) -> bool:
+    return isinstance(text, int | float) or str(text).strip().replace(".", "", 1).lstrip("+-").isdigit()
+
+
+def _shown_unit(unit: str) -> str:
+    return {"degC": "°C", "cmH2O*s/L": "cmH2O/(L/s)"}.get(unit, unit)
+
+
+def get_path(request: object, path: str) -> object:
+    """Read ``a.b`` from nested dataclasses."""
+    obj = request
+    for part in path.split("."):
+        obj = getattr(obj, part)
+    return obj
+
+
+def validate_request(request: object) -> None:
+    """Check every numeric field of a Request against its hard limits; raises InputError."""
+    for spec in FIELDS.values():
+        value = get_path(request, spec.path)
+        if value is None:
+            continue
+        if isinstance(value, bool) or not isinstance(value, int | float):
+            raise InputError(spec.label, value, "must be a number")
+        check_range(float(value), spec.lo, spec.hi, spec.label, _shown_unit(spec.unit), lo_open=spec.lo_open)

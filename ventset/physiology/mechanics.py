@@ -1,0 +1,98 @@
+"""Single-compartment respiratory mechanics: timing, pressures, time constant, waveforms, Otis rate."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+
+def breath_timing_s(rate_per_min: float, ie_expiratory_part: float) -> tuple[float, float]:
+    """Inspiratory and expiratory times (s) for a rate and I:E = 1:E. Ti = (60/f)/(1 + E)."""
+    cycle_s = 60.0 / rate_per_min
+    ti_s = cycle_s / (1.0 + ie_expiratory_part)
+    return ti_s, cycle_s - ti_s
+
+
+def time_constant_s(resistance_cmh2o_l_s: float, compliance_ml_cmh2o: float) -> float:
+    """Time constant τ = R·C in s (R in cmH2O·s/L, C in mL/cmH2O)."""
+    return resistance_cmh2o_l_s * compliance_ml_cmh2o / 1000.0
+
+
+def plateau_cmh2o(vt_ml: float, compliance_ml_cmh2o: float, peep_cmh2o: float) -> float:
+    """End-inspiratory plateau pressure VT/C + PEEP (equation of motion, no flow; Chatburn 2014)."""
+    return vt_ml / compliance_ml_cmh2o + peep_cmh2o
+
+
+def peak_cmh2o_constant_flow(vt_ml: float, ti_s: float, compliance_ml_cmh2o: float,
+                             resistance_cmh2o_l_s: float, peep_cmh2o: float) -> float:
+    """Peak pressure with constant inspiratory flow VT/Ti: Pplat + R·V̇ (Chatburn 2014)."""
+    flow_l_s = vt_ml / 1000.0 / ti_s
+    return plateau_cmh2o(vt_ml, compliance_ml_cmh2o, peep_cmh2o) + resistance_cmh2o_l_s * flow_l_s
+
+
+def pressure_control_delta_cmh2o(vt_ml: float, ti_s: float, compliance_ml_cmh2o: float, tau_s: float) -> float:
+    """Inspiratory pressure above PEEP that delivers VT in Ti with a square pressure: VT/(C·(1 − e^(−Ti/τ)))."""
+    return vt_ml / (compliance_ml_cmh2o * (1.0 - math.exp(-ti_s / tau_s)))
+
+
+def otis_optimal_rate_per_min(va_l_min: float, vd_l: float, rc_s: float) -> float:
+    """Rate of least work of breathing (Otis, Fenn & Rahn 1950, J Appl Physiol 2:592).
+
+    f = [√(1 + 2a·RC·VA/VD) − 1]/(a·RC), a = 2π²/60, f in /min, VA L/min, VD L, RC s.
+    """
+    a = 2.0 * math.pi**2 / 60.0
+    return (math.sqrt(1.0 + 2.0 * a * rc_s * va_l_min / vd_l) - 1.0) / (a * rc_s)
+
+
+def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2o: float,
+              resistance_cmh2o_l_s: float, peep_cmh2o: float, mode: str, breaths: int = 3,
+              points_per_breath: int = 200) -> dict[str, np.ndarray]:
+    """Sample airway pressure (cmH2O), flow (L/min) and volume (mL) over ``breaths`` breaths.
+
+    Passive single-compartment lung (P = V/C + R·V̇ + PEEP). Volume mode: constant flow VT/Ti.
+    Pressure mode: square pressure that delivers VT in Ti. Expiration is passive: V = V_end·e^(−t/τ),
+    so a short Te shows as volume not returning to zero (trapped gas). Breaths are simulated in
+    sequence, so trapped volume carries over.
+    """
+    c = compliance_ml_cmh2o
+    tau = time_constant_s(resistance_cmh2o_l_s, c)
+    cycle = 60.0 / rate_per_min
+    te = cycle - ti_s
+    n = points_per_breath
+    n_i = max(2, int(round(n * ti_s / cycle)))
+    n_e = max(2, n - n_i)
+    ti_local = np.linspace(0.0, ti_s, n_i, endpoint=False)
+    te_local = np.linspace(0.0, te, n_e, endpoint=False)
+    t_all, p_all, q_all, v_all = [], [], [], []
+    v0 = 0.0
+    dp = pressure_control_delta_cmh2o(vt_ml, ti_s, c, tau) if mode == "pressure" else 0.0
+    r_ml = resistance_cmh2o_l_s / 1000.0  # cmH2O per (mL/s)
+    for k in range(breaths):
+        t0 = k * cycle
+        if mode == "pressure":
+            v_target = c * dp
+            v_i = v_target + (v0 - v_target) * np.exp(-ti_local / tau)
+            q_i = (v_target - v_i) / tau  # mL/s
+            p_i = np.full_like(ti_local, peep_cmh2o + dp)
+        else:
+            q_const = vt_ml / ti_s
+            v_i = v0 + q_const * ti_local
+            q_i = np.full_like(ti_local, q_const)
+            p_i = v_i / c + r_ml * q_i + peep_cmh2o
+        v_end = float(v_i[-1] + q_i[-1] * (ti_s / n_i)) if mode != "pressure" else float(
+            v_target + (v0 - v_target) * math.exp(-ti_s / tau))
+        v_e = v_end * np.exp(-te_local / tau)
+        q_e = -v_e / tau
+        p_e = np.full_like(te_local, peep_cmh2o)
+        t_all += [t0 + ti_local, t0 + ti_s + te_local]
+        p_all += [p_i, p_e]
+        q_all += [q_i, q_e]
+        v_all += [v_i, v_e]
+        v0 = v_end * math.exp(-te / tau)
+    return {
+        "time_s": np.concatenate(t_all),
+        "pressure_cmh2o": np.concatenate(p_all),
+        "flow_l_min": np.concatenate(q_all) * 60.0 / 1000.0,
+        "volume_ml": np.concatenate(v_all),
+    }
