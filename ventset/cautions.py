@@ -131,16 +131,35 @@ def target_unreachable(x: Context) -> list[Caution]:
     if v.target_reached:
         return []
     limits = " and ".join(LIMIT_WORDS.get(b, b) for b in x.binding if b in LIMIT_WORDS)
-    if v.expected_paco2_mmhg > v.target_paco2_mmhg:
+    d, lean = x.plan.dead_space, x.plan.resolved.lean_mass_kg
+    f_alv = x.plan.resolved.alveolar_dead_space_fraction
+    vd_fixed = d.total_ml - d.alveolar_ml
+    need_rate = v.alveolar_ml_min / (v.tidal_volume_ml * (1 - f_alv) - vd_fixed) if (
+        v.tidal_volume_ml * (1 - f_alv) > vd_fixed) else math.inf
+    band = x.species.paco2_target_mmhg
+    if not math.isfinite(v.expected_paco2_mmhg):
         return [_c("danger", "TARGET_UNREACHABLE",
+                   f"No setting inside the limits ventilates the alveoli at all: every breath up to "
+                   f"{fmt(v.tidal_volume_ml)} mL ({fmt(v.tidal_volume_ml / lean)} mL/kg, limited by {limits}) is "
+                   f"used up by {fmt(vd_fixed)} mL of fixed dead space. Remove apparatus dead space first.",
+                   target_mmhg=v.target_paco2_mmhg)]
+    if v.expected_paco2_mmhg > v.target_paco2_mmhg:
+        within = band.min <= v.expected_paco2_mmhg <= band.max
+        need = (f" Reaching it would need {fmt(need_rate)}/min at this tidal volume."
+                if math.isfinite(need_rate) else "")
+        return [_c("caution" if within else "danger", "TARGET_UNREACHABLE",
                    f"No setting inside the limits reaches PaCO2 {fmt(v.target_paco2_mmhg)} mmHg; limited by {limits}. "
-                   f"These settings are expected to give PaCO2 {fmt(v.expected_paco2_mmhg)} mmHg (hypercapnia). "
-                   "Reduce dead space, or widen a limit only if the clinician judges it safe.",
+                   f"These settings are expected to give PaCO2 {fmt(v.expected_paco2_mmhg)} mmHg"
+                   + (f", still inside the usual {fmt(band.min)}–{fmt(band.max)} mmHg." if within else
+                      " (hypercapnia).") + need
+                   + " Reduce dead space, or widen a limit only if the clinician judges it safe.",
                    target_mmhg=v.target_paco2_mmhg, expected_mmhg=v.expected_paco2_mmhg)]
     return [_c("caution", "TARGET_BELOW_LIMITS",
                f"Even the smallest settings inside the limits over-ventilate: expected PaCO2 "
                f"{fmt(v.expected_paco2_mmhg)} mmHg against a target of {fmt(v.target_paco2_mmhg)} mmHg "
-               f"(limited by {limits}). Consider a lower rate or assisted spontaneous breathing.",
+               f"(limited by {limits}); the target would need {fmt(need_rate, 2)}/min at "
+               f"{fmt(v.tidal_volume_ml / lean)} mL/kg. Consider a lower rate, a longer pause between breaths, "
+               "or assisted spontaneous breathing, guided by EtCO2.",
                target_mmhg=v.target_paco2_mmhg, expected_mmhg=v.expected_paco2_mmhg)]
 
 
@@ -181,8 +200,9 @@ def compressible_volume(x: Context) -> list[Caution]:
         return []
     return [_c("caution", "CIRCUIT_COMPRESSION",
                f"The circuit absorbs about {fmt(pr.compressed_ml)} mL per breath ({fmt(share * 100, 2)} % of the "
-               f"{fmt(v.tidal_volume_ml)} mL the patient needs), so the set volume is {fmt(v.set_tidal_volume_ml)} mL. "
-               "Check delivered volume with spirometry; a low-compliance circuit or a pressure mode is more predictable.",
+               f"{fmt(v.tidal_volume_ml)} mL the patient needs), so the set volume is "
+               f"{fmt(v.set_tidal_volume_ml)} mL. Check delivered volume with spirometry; a low-compliance circuit "
+               "or a pressure mode is more predictable.",
                compressed_ml=pr.compressed_ml)]
 
 

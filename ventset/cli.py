@@ -84,8 +84,10 @@ def request_from_args(ns: argparse.Namespace, library) -> Request:
                         v["alveolar-dead-space"], v["compliance"], v["resistance"], ns.name),
         circuit=Circuit(_parts(ns.apparatus, library), v["tube-id"], v["tube-length"], ns.circuit,
                         v["compressible-volume"], ns.mode, v["sampling-flow"] or 0.0),
-        targets=Targets(v["target-paco2"], v["target-etco2"], v["gradient"], v["peep"], v["ie"],
-                        v["pressure-limit"], v["fio2"], v["altitude"] or 0.0, v["barometric-pressure"]),
+        targets=Targets(paco2_mmhg=v["target-paco2"], etco2_mmhg=v["target-etco2"], gradient_mmhg=v["gradient"],
+                        peep_cmh2o=v["peep"], ie_expiratory_part=v["ie"], pressure_limit_cmh2o=v["pressure-limit"],
+                        fio2=v["fio2"], altitude_m=v["altitude"] or 0.0, barometric_mmhg=v["barometric-pressure"],
+                        ti_s=v["ti"]),
         strategy=Strategy(ns.strategy, v["vt-per-kg"], v["rate"]),
     )
 

@@ -73,6 +73,9 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
               "Positive end-expiratory pressure. Default: species value.", lo_open=False, group="targets"),
     FieldSpec("ie", "I:E (expiratory part)", "targets.ie_expiratory_part", "", ("",), 0.25, 20.0,
               "E in I:E = 1:E (2 means 1:2). Default: species value.", lo_open=False, group="targets"),
+    FieldSpec("ti", "Inspiratory time", "targets.ti_s", "s", ("s",), 0.05, 10.0,
+              "Inspiratory time to use; overrides I:E. Default: about 1 s at 20 kg, scaling with M^0.26 "
+              "(Stahl 1967), never longer than the species' I:E allows.", group="targets"),
     FieldSpec("pressure-limit", "Pressure limit", "targets.pressure_limit_cmh2o", "cmH2O", ("cmH2O", "mbar", "hPa"),
               1.0, 80.0, "Highest airway pressure the plan may use. Default: species value.", lo_open=False,
               group="targets"),

@@ -91,6 +91,7 @@ class Species:
     default_mode: str
     mechanics_reliable: bool
     notes: tuple[Note, ...]
+    inspiratory_time_s: Sourced | None = None
 
     def matches(self, text: str) -> bool:
         """True if ``text`` (case-insensitive) occurs in the key, label or an alias."""
@@ -129,6 +130,7 @@ class Library:
     fresh_gas: dict[str, Sourced]
     species_version: str = ""
     cautions: dict[str, Sourced] = field(default_factory=dict)
+    planning: dict[str, Sourced] = field(default_factory=dict)
 
     def find_species(self, text: str) -> Species | None:
         """Species by key, label or alias (exact first, then a unique partial match)."""
@@ -263,6 +265,7 @@ def _species(key: str, t: dict, groups: dict[str, Group]) -> Species:
         rq=r.sourced("rq", 0.6, 1.3), anaesthesia_factor=r.sourced("anaesthesia_factor", 0.3, 1.5),
         default_mode=r.text("default_mode", ("volume", "pressure")),
         mechanics_reliable=r.flag("mechanics_reliable"), notes=tuple(notes),
+        inspiratory_time_s=r.sourced("inspiratory_time_s", 0.05, 10) if "inspiratory_time_s" in t else None,
     )
     if sp.resistance_coefficient <= 0:
         raise r.fail("resistance_cmh2o_l_s", "coefficient must be positive")
@@ -312,7 +315,8 @@ def parse_apparatus(data: dict) -> tuple[dict[str, Part], dict[str, CircuitType]
     for need in ("non_rebreathing_minute_volume_multiple", "non_rebreathing_floor_ml_min",
                  "non_rebreathing_below_kg", "rebreathing_maintenance_ml_kg_min",
                  "rebreathing_induction_ml_kg_min", "rebreathing_floor_ml_min",
-                 "large_animal_circle_above_kg", "sidestream_sampling_ml_min"):
+                 "large_animal_circle_above_kg", "sidestream_sampling_ml_min",
+                 "large_animal_maintenance_ml_kg_min", "large_animal_induction_ml_kg_min"):
         if need not in fresh:
             raise r.fail(need, "is missing")
     for need in ("non_rebreathing", "rebreathing_small_animal", "rebreathing_large_animal"):
@@ -321,18 +325,25 @@ def parse_apparatus(data: dict) -> tuple[dict[str, Part], dict[str, CircuitType]
     return parts, circuits, fresh
 
 
-def parse_cautions(data: dict) -> dict[str, Sourced]:
-    """Validate the caution thresholds in cautions.toml."""
-    r = _Reader("cautions.toml [thresholds]", data.get("thresholds") or {})
-    return {k: r.sourced(k) for k in (data.get("thresholds") or {})}
+def parse_sourced_table(data: dict, file: str, table: str, required: tuple[str, ...] = ()) -> dict[str, Sourced]:
+    """Validate a table of ``name = { value, source }`` entries (cautions.toml, planning.toml)."""
+    body = data.get(table) or {}
+    r = _Reader(f"{file} [{table}]", body)
+    out = {k: r.sourced(k) for k in body}
+    for need in required:
+        if need not in out:
+            raise r.fail(need, "is missing")
+    return out
 
 
 @lru_cache(maxsize=1)
 def load_library() -> Library:
-    """Load and validate species.toml, apparatus.toml and cautions.toml (cached)."""
+    """Load and validate species.toml, apparatus.toml, cautions.toml and planning.toml (cached)."""
     sp_data = _load_toml(resource_path("species.toml"))
     groups, species = parse_species(sp_data)
     parts, circuits, fresh = parse_apparatus(_load_toml(resource_path("apparatus.toml")))
-    cautions = parse_cautions(_load_toml(resource_path("cautions.toml")))
+    cautions = parse_sourced_table(_load_toml(resource_path("cautions.toml")), "cautions.toml", "thresholds")
+    planning = parse_sourced_table(_load_toml(resource_path("planning.toml")), "planning.toml", "defaults",
+                                   ("fio2", "ti_reference_s", "ti_reference_mass_kg", "ti_mass_exponent"))
     return Library(species=species, groups=groups, parts=parts, circuits=circuits, fresh_gas=fresh,
-                   species_version=str(sp_data.get("data_version", "1")), cautions=cautions)
+                   species_version=str(sp_data.get("data_version", "1")), cautions=cautions, planning=planning)

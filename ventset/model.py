@@ -73,6 +73,7 @@ class Targets:
     fio2: float | None = None
     altitude_m: float = 0.0
     barometric_mmhg: float | None = None
+    ti_s: float | None = None
 
 
 @dataclass(frozen=True)

@@ -33,9 +33,6 @@ from ventset.model import (
 from ventset.physiology import deadspace, gas, mechanics, metabolism
 from ventset.units import check_range, fmt
 
-DEFAULT_FIO2 = 1.0
-DEFAULT_FIO2_SOURCE = "common practice (100 % oxygen as carrier gas under inhalant anaesthesia)"
-
 
 @dataclass(frozen=True)
 class Choice:
@@ -125,6 +122,39 @@ def choose_settings(va_ml_min: float, vd_fixed_ml: float, f_alv: float, vt_lo: f
     return Choice(vt_lo, rate_lo, False, tuple(binding), pref_vt, pref_rate)
 
 
+def default_ti_s(lean_mass_kg: float, species: Species, library: Library) -> tuple[float, str]:
+    """Default inspiratory time (s) and its source: the species value, else ~1 s at 20 kg × (M/20)^0.26."""
+    if species.inspiratory_time_s is not None:
+        return species.inspiratory_time_s.value, species.inspiratory_time_s.source
+    d = library.planning
+    ti = d["ti_reference_s"].value * (lean_mass_kg / d["ti_reference_mass_kg"].value) ** d["ti_mass_exponent"].value
+    return ti, f"{d['ti_reference_s'].source}; scaled with {d['ti_mass_exponent'].source}"
+
+
+def _timing(rate: float, ti_entered: float | None, ie_entered: float | None, sp: Species, lean: float,
+            lib: Library, used) -> tuple[float, float, float]:
+    """Ti, Te (s) and the resulting E of I:E = 1:E, from an entered Ti, an entered I:E, or the defaults."""
+    cycle = 60.0 / rate
+    if ti_entered is not None:
+        if ti_entered >= cycle * 0.8:
+            raise InputError("Inspiratory time", f"{fmt(ti_entered)} s",
+                             f"leaves too little time to breathe out at {fmt(rate)}/min (cycle {fmt(cycle)} s)")
+        ti = ti_entered
+    elif ie_entered is not None:
+        ti, _ = mechanics.breath_timing_s(rate, ie_entered)
+    else:
+        ti_ie, _ = mechanics.breath_timing_s(rate, sp.ie_expiratory_part.value)
+        ti_typ, source = default_ti_s(lean, sp, lib)
+        if ti_typ < ti_ie:
+            ti = ti_typ
+            used("Inspiratory time", ti, "s", source)
+        else:
+            ti = ti_ie
+            used("I:E", f"1:{fmt(sp.ie_expiratory_part.value)}", "", sp.ie_expiratory_part.source)
+    te = cycle - ti
+    return ti, te, te / ti
+
+
 def _species(library: Library, key: str) -> Species:
     sp = library.find_species(key) if key else None
     if sp is None:
@@ -150,7 +180,8 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     check_range(p.mass_kg, sp.mass_kg.min, sp.mass_kg.max, "Body mass", f"kg for {sp.label}")
     lean = p.lean_mass_kg if p.lean_mass_kg is not None else p.mass_kg
     if lean > p.mass_kg:
-        raise InputError("Lean (ideal) mass", f"{fmt(lean)} kg", f"must not exceed the body mass of {fmt(p.mass_kg)} kg")
+        raise InputError("Lean (ideal) mass", f"{fmt(lean)} kg",
+                         f"must not exceed the body mass of {fmt(p.mass_kg)} kg")
     if p.lean_mass_kg is None:
         used("Lean mass", lean, "kg", "taken as the body mass (no lean mass entered)")
     if s.name not in STRATEGIES:
@@ -249,9 +280,8 @@ def plan(request: Request, library: Library | None = None) -> Plan:
         used("Pressure limit", limit, "cmH2O", sp.pip_limit_cmh2o.source)
     if limit <= peep:
         raise InputError("Pressure limit", f"{fmt(limit)} cmH2O", f"must be above PEEP ({fmt(peep)} cmH2O)")
-    ie = t.ie_expiratory_part if t.ie_expiratory_part is not None else sp.ie_expiratory_part.value
-    if t.ie_expiratory_part is None:
-        used("I:E", f"1:{fmt(ie)}", "", sp.ie_expiratory_part.source)
+    if t.ti_s is not None and t.ie_expiratory_part is not None:
+        raise InputError("Inspiratory time", t.ti_s, "give an inspiratory time or an I:E, not both")
 
     # --- the limits and the choice ------------------------------------------------
     vt_span, rate_span = sp.tidal_volume_ml_kg, sp.rate_per_min
@@ -283,7 +313,7 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     expected = gas.paco2_mmhg_from_va(vco2, delivered_va, temp) if delivered_va > 0 else math.inf
 
     # --- timing and pressures -----------------------------------------------------
-    ti, te = mechanics.breath_timing_s(rate, ie)
+    ti, te, ie = _timing(rate, t.ti_s, t.ie_expiratory_part, sp, lean, lib, used)
     plateau = mechanics.plateau_cmh2o(vt, compliance, peep)
     if mode == "pressure":
         insp = mechanics.pressure_control_delta_cmh2o(vt, ti, compliance, tau)
@@ -314,9 +344,9 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     set_vt = vt + compressed
 
     # --- oxygen -------------------------------------------------------------------
-    fio2 = t.fio2 if t.fio2 is not None else DEFAULT_FIO2
+    fio2 = t.fio2 if t.fio2 is not None else lib.planning["fio2"].value
     if t.fio2 is None:
-        used("FiO2", fio2, "", DEFAULT_FIO2_SOURCE)
+        used("FiO2", fio2, "", lib.planning["fio2"].source)
     if t.barometric_mmhg is not None:
         pb = t.barometric_mmhg
     else:
@@ -329,11 +359,12 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     sampling_loss = c.sampling_ml_min if circuit.rebreathing else 0.0
     min_o2 = vo2 + sampling_loss
     if circuit.rebreathing:
-        fresh = max(fg["rebreathing_maintenance_ml_kg_min"].value * p.mass_kg, fg["rebreathing_floor_ml_min"].value,
-                    min_o2)
-        induction = max(fg["rebreathing_induction_ml_kg_min"].value * p.mass_kg, fresh)
-        used("Fresh gas, rebreathing maintenance", fg["rebreathing_maintenance_ml_kg_min"].value, "mL/kg/min",
-             fg["rebreathing_maintenance_ml_kg_min"].source)
+        size = "large_animal" if ckey == "rebreathing_large_animal" else "rebreathing"
+        maint, induct = fg[f"{size}_maintenance_ml_kg_min"], fg[f"{size}_induction_ml_kg_min"]
+        fresh = max(maint.value * p.mass_kg, fg["rebreathing_floor_ml_min"].value, min_o2)
+        induction = max(induct.value * p.mass_kg, fresh)
+        used("Fresh gas, maintenance", maint.value, "mL/kg/min", maint.source)
+        used("Fresh gas, induction and changes", induct.value, "mL/kg/min", induct.source)
     else:
         fresh = max(fg["non_rebreathing_minute_volume_multiple"].value * minute,
                     fg["non_rebreathing_floor_ml_min"].value, min_o2)

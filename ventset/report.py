@@ -99,8 +99,10 @@ def plan_to_text(plan: Plan, gas_unit: str = "mmHg") -> str:
         f"  Pressures          plateau {fmt(p.plateau_cmh2o)}; peak {fmt(p.peak_cmh2o)}; driving "
         f"{fmt(p.driving_cmh2o)} cmH2O; τ {fmt(p.time_constant_s)} s (C {fmt(p.compliance_ml_cmh2o)} mL/cmH2O, "
         f"R {fmt(p.resistance_cmh2o_l_s)} cmH2O/(L/s))",
-        f"  CO2                target PaCO2 {gas_pressure(v.target_paco2_mmhg, gas_unit)}; expected PaCO2 "
-        f"{gas_pressure(v.expected_paco2_mmhg, gas_unit)}, EtCO2 {gas_pressure(v.expected_etco2_mmhg, gas_unit)}"
+        f"  CO2                target PaCO2 {gas_pressure(v.target_paco2_mmhg, gas_unit)}; "
+        + (f"expected PaCO2 {gas_pressure(v.expected_paco2_mmhg, gas_unit)}, EtCO2 "
+           f"{gas_pressure(v.expected_etco2_mmhg, gas_unit)}" if math.isfinite(v.expected_paco2_mmhg)
+           else "expected: NO alveolar ventilation (every breath is dead space)")
         + ("" if v.target_reached else "  ** TARGET NOT REACHED **"),
         f"  Oxygen             PAO2 {gas_pressure(o.pao2_alveolar_mmhg, gas_unit)} (PB "
         f"{gas_pressure(o.barometric_mmhg, gas_unit)}); minimum O2 flow {fmt(o.min_o2_flow_ml_min)} mL/min",
