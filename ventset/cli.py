@@ -189,6 +189,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         return handlers[ns.command](ns)
     except InputError as err:
+        flag = next((f"--{f.key}" for f in FIELDS.values() if f.label == err.field), None)
+        if flag and ns.command not in (None, "gui"):
+            err = InputError(f"{flag} ({err.field})", err.value, err.reason, err.unit)
         print(f"ventset: {err}", file=sys.stderr)
         return 2
     except DataError as err:
@@ -197,6 +200,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except VentsetError as err:
         print(f"ventset: {err}", file=sys.stderr)
         return 2
+    except BrokenPipeError:  # output piped into `head` and closed early
+        sys.stderr.close()
+        return 0
 
 
 if __name__ == "__main__":

@@ -177,7 +177,10 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     def used(name: str, value: float | str, unit: str, source: str) -> None:
         notes.append(Assumption(name, round(value, 4) if isinstance(value, float) else value, unit, source))
 
-    check_range(p.mass_kg, sp.mass_kg.min, sp.mass_kg.max, "Body mass", f"kg for {sp.label}")
+    try:
+        check_range(p.mass_kg, sp.mass_kg.min, sp.mass_kg.max, "Body mass", "kg")
+    except InputError as err:
+        raise InputError(err.field, err.value, f"{err.reason} for {sp.label} ({sp.mass_kg.source})", "kg") from None
     lean = p.lean_mass_kg if p.lean_mass_kg is not None else p.mass_kg
     if lean > p.mass_kg:
         raise InputError("Lean (ideal) mass", f"{fmt(lean)} kg",

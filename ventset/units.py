@@ -73,7 +73,7 @@ def parse_quantity(text: object, unit: str, field: str, *, default_unit: str | N
         raw = "" if text is None else str(text)
         if not raw.strip():
             raise InputError(field, raw, "is empty; enter a number" + (f" in {unit}" if unit else ""))
-        if not raw.isascii():
+        if any(ch.isdigit() and not ch.isascii() for ch in raw):
             raise InputError(field, raw, "use plain digits 0-9 and a decimal point")
         if re.match(r"^\s*[+-]?\d+,\d+", raw):
             raise InputError(field, raw, "use a decimal point, not a comma (e.g. 2.5)")

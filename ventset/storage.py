@@ -1,0 +1,294 @@
+"""Files the user keeps: the data folder, atomic writes, and JSON loading that refuses hostile input.
+
+Every save goes through :func:`atomic_write_bytes`: a temporary file in the same folder is
+written, flushed and fsynced, moved over the target with ``os.replace`` and the folder is
+fsynced, so a crash or power loss leaves either the old file or the new one, never a mix.
+:func:`read_json` caps the size before parsing, rejects NaN/Infinity, duplicate keys, lone
+surrogates and runaway nesting, and removes temporary files that a killed writer left behind.
+No pickle, no eval: plain JSON only.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+from ventset.errors import VentsetError
+
+DATA_DIR_ENV = "VENTSET_DATA_DIR"
+MAX_NESTING = 64
+STALE_TEMP_AGE_S = 3600.0
+_TEMP_SUFFIX = ".tmp"
+
+
+class StorageError(VentsetError):
+    """A file could not be read or written; ``reason`` says why in plain words."""
+
+    verb = "use"
+
+    def __init__(self, path: os.PathLike | str, reason: str) -> None:
+        self.path = Path(path)
+        self.reason = reason
+        super().__init__(str(self))
+
+    def __str__(self) -> str:
+        return f"cannot {self.verb} '{self.path}': {self.reason}"
+
+
+class ReadError(StorageError):
+    verb = "open"
+
+
+class WriteError(StorageError):
+    verb = "save"
+
+
+def data_dir(create: bool = True) -> Path:
+    """The user data folder: $VENTSET_DATA_DIR if set, else platformdirs' user_data_dir("ventset")."""
+    override = os.environ.get(DATA_DIR_ENV, "").strip()
+    if override:
+        folder = Path(override).expanduser()
+    else:
+        from platformdirs import user_data_dir
+
+        folder = Path(user_data_dir("ventset", appauthor=False))
+    if create:
+        try:
+            folder.mkdir(parents=True, exist_ok=True)
+        except OSError as exc:
+            raise WriteError(folder, f"the data folder cannot be created ({_os_reason(exc)})") from None
+    return folder
+
+
+def _os_reason(exc: OSError) -> str:
+    return exc.strerror or type(exc).__name__
+
+
+def _fsync_folder(folder: Path) -> None:
+    if sys.platform.startswith("win"):  # pragma: no cover - folders cannot be opened for fsync on Windows
+        return
+    fd = os.open(folder, os.O_RDONLY)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
+def _temp_prefix(target: Path) -> str:
+    return f".{target.name}."
+
+
+def atomic_write_bytes(path: os.PathLike | str, data: bytes) -> None:
+    """Replace ``path`` with ``data`` atomically and durably; raises WriteError (the old file stays)."""
+    target = Path(path)
+    folder = target.parent if str(target.parent) else Path(".")
+    if target.is_dir():
+        raise WriteError(target, "it is a folder, not a file")
+    if not folder.is_dir():
+        raise WriteError(target, f"the folder '{folder}' does not exist")
+    tmp: str | None = None
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f"{_temp_prefix(target)}{os.getpid()}.", suffix=_TEMP_SUFFIX, dir=folder)
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        try:
+            os.chmod(tmp, target.stat().st_mode & 0o777)  # keep the permissions of the file replaced
+        except FileNotFoundError:
+            pass
+        os.replace(tmp, target)
+        tmp = None
+        _fsync_folder(folder)
+    except OSError as exc:
+        raise WriteError(target, _os_reason(exc)) from None
+    finally:
+        if tmp is not None:
+            try:
+                os.unlink(tmp)
+            except OSError:
+                pass
+
+
+def dumps(obj: object) -> bytes:
+    """Serialise to UTF-8 JSON (indented, NaN refused); raises ValueError for what JSON cannot hold."""
+    text = json.dumps(obj, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    return text.encode("utf-8")  # a lone surrogate raises UnicodeEncodeError (a ValueError) here
+
+
+def atomic_write_json(path: os.PathLike | str, obj: object) -> None:
+    """Write ``obj`` as JSON through :func:`atomic_write_bytes`."""
+    try:
+        data = dumps(obj)
+    except (ValueError, TypeError, RecursionError) as exc:
+        raise WriteError(path, f"the data cannot be stored as JSON ({_short(exc)})") from None
+    atomic_write_bytes(path, data)
+
+
+def _pid_alive(pid: int) -> bool:
+    if pid <= 0:
+        return False
+    if sys.platform.startswith("win"):  # pragma: no cover - no cheap check; fall back to the age rule
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
+
+
+def clean_stale_temps(target: os.PathLike | str) -> list[Path]:
+    """Remove temporary files a killed writer left beside ``target``; returns what was removed.
+
+    A temp file is stale when the process that made it is gone, or it is older than an hour.
+    """
+    target = Path(target)
+    folder = target.parent if str(target.parent) else Path(".")
+    prefix = _temp_prefix(target)
+    removed = []
+    try:
+        entries = list(folder.iterdir())
+    except OSError:
+        return removed
+    now = time.time()
+    for entry in entries:
+        name = entry.name
+        if not (name.startswith(prefix) and name.endswith(_TEMP_SUFFIX)):
+            continue
+        pid_text = name[len(prefix):].split(".", 1)[0]
+        try:
+            stale = not _pid_alive(int(pid_text)) or now - entry.stat().st_mtime > STALE_TEMP_AGE_S
+            if stale and entry.is_file():
+                entry.unlink()
+                removed.append(entry)
+        except (ValueError, OSError):
+            continue
+    return removed
+
+
+class _Refused(ValueError):
+    """Raised inside the JSON parser hooks; carries the plain reason."""
+
+
+def _no_constants(name: str) -> float:
+    raise _Refused(f"it contains {name}, which is not a number a file may hold")
+
+
+def _finite_float(text: str) -> float:
+    value = float(text)
+    if not math.isfinite(value):
+        raise _Refused(f"it contains the number {text[:20]}, which is too large to be finite")
+    return value
+
+
+def _no_duplicates(pairs: list[tuple[str, object]]) -> dict:
+    out: dict = {}
+    for key, value in pairs:
+        if key in out:
+            raise _Refused(f"it has the key '{_printable(key)}' twice in one object")
+        out[key] = value
+    return out
+
+
+def _printable(text: str, limit: int = 40) -> str:
+    safe = text.encode("utf-8", "backslashreplace").decode("utf-8")
+    return safe if len(safe) <= limit else safe[: limit - 3] + "..."
+
+
+def _short(exc: BaseException) -> str:
+    text = str(exc) or type(exc).__name__
+    return text if len(text) <= 120 else text[:117] + "..."
+
+
+def _has_surrogate(text: str) -> bool:
+    return any("\ud800" <= ch <= "\udfff" for ch in text)
+
+
+def check_tree(obj: object, max_depth: int = MAX_NESTING) -> None:
+    """Reject nesting deeper than ``max_depth`` and lone surrogates in keys or text (iterative, no recursion)."""
+    stack: list[tuple[object, int, str]] = [(obj, 1, "")]
+    while stack:
+        value, depth, where = stack.pop()
+        if isinstance(value, dict | list):
+            if depth > max_depth:
+                raise _Refused(f"it is nested more than {max_depth} levels deep")
+            items = value.items() if isinstance(value, dict) else enumerate(value)
+            for key, child in items:
+                path = f"{where}.{key}" if isinstance(key, str) else f"{where}[{key}]"
+                if isinstance(key, str) and _has_surrogate(key):
+                    raise _Refused(f"a key at '{_printable(where or '.')}' holds an invalid character "
+                                   "(a lone UTF-16 surrogate)")
+                stack.append((child, depth + 1, path))
+        elif isinstance(value, str) and _has_surrogate(value):
+            raise _Refused(f"the text at '{_printable(where.lstrip('.') or '.')}' holds an invalid character "
+                           "(a lone UTF-16 surrogate)")
+
+
+def parse_json_bytes(raw: bytes) -> object:
+    """Parse UTF-8 JSON strictly; raises ValueError with a plain reason (see module docstring)."""
+    if not raw.strip():
+        raise _Refused("it is empty")
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise _Refused(f"it is not a text file (byte 0x{raw[exc.start]:02x} at position {exc.start} "
+                       "is not UTF-8)") from None
+    if "\x00" in text:
+        raise _Refused("it is not a text file (it contains NUL bytes)")
+    try:
+        data = json.loads(text, parse_constant=_no_constants, parse_float=_finite_float,
+                          object_pairs_hook=_no_duplicates)
+    except _Refused:
+        raise
+    except RecursionError:
+        raise _Refused(f"it is nested too deeply (more than {MAX_NESTING} levels)") from None
+    except json.JSONDecodeError as exc:
+        raise _Refused(f"it is not complete, valid JSON (line {exc.lineno}, column {exc.colno}: {exc.msg}); "
+                       "it may be truncated or damaged") from None
+    except ValueError as exc:  # e.g. an integer with more digits than Python converts
+        reason = "a number with too many digits" if "digits" in str(exc) else f"a value that cannot be read " \
+                 f"({_short(exc)})"
+        raise _Refused(f"it holds {reason}") from None
+    check_tree(data)
+    return data
+
+
+def read_json(path: os.PathLike | str, max_bytes: int, error: type[StorageError] = ReadError) -> object:
+    """Read and parse a JSON file no larger than ``max_bytes``; raises ``error`` naming the file and why.
+
+    Stale temporary files beside it are removed first. The file itself is never modified.
+    """
+    target = Path(path)
+    clean_stale_temps(target)
+    try:
+        if target.is_dir():
+            raise error(target, "it is a folder, not a file")
+        st = target.stat()
+        if not target.is_file():
+            raise error(target, "it is not a regular file")
+        if st.st_size > max_bytes:
+            raise error(target, f"it is {st.st_size / 1e6:.1f} MB; this kind of file is at most "
+                                f"{max_bytes / 1e6:g} MB")
+        with target.open("rb") as fh:
+            raw = fh.read(max_bytes + 1)
+    except FileNotFoundError:
+        raise error(target, "there is no such file") from None
+    except PermissionError:
+        raise error(target, "permission denied") from None
+    except OSError as exc:
+        raise error(target, _os_reason(exc)) from None
+    if len(raw) > max_bytes:
+        raise error(target, f"it is larger than {max_bytes / 1e6:g} MB")
+    try:
+        return parse_json_bytes(raw)
+    except _Refused as exc:
+        raise error(target, str(exc)) from None
+    except RecursionError:
+        raise error(target, "it is nested too deeply") from None
