@@ -5,7 +5,7 @@ cd "$(dirname "$0")/.."
 bash scripts/setup.sh --test || exit 1
 export QT_QPA_PLATFORM=offscreen PYQTGRAPH_QT_LIB=PySide6
 unset PYTHONDONTWRITEBYTECODE
-.venv/bin/python -m ruff check ventset tests benchmarks || exit 1
+.venv/bin/python -m ruff check . || exit 1
 .venv/bin/python -m pytest "$@"
 rc=$?
 if [ "$rc" -eq 5 ]; then

@@ -67,7 +67,8 @@ def test_fio2_percent():
     assert parse_field("fio2", "0.4") == pytest.approx(0.4)
 
 
-@pytest.mark.parametrize(("x", "s"), [(0.5, "0.5"), (5.0, "5"), (12.345, "12.3"), (1403.2, "1403"), (0.00123, "0.00123")])
+@pytest.mark.parametrize(("x", "s"), [(0.5, "0.5"), (5.0, "5"), (12.345, "12.3"), (1403.2, "1403"),
+                                      (0.00123, "0.00123")])
 def test_fmt_leading_zero_no_trailing_zero(x, s):
     assert fmt(x) == s
 
