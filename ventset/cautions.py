@@ -154,7 +154,8 @@ def target_unreachable(x: Context) -> list[Caution]:
                       " (hypercapnia).") + need
                    + " Reduce dead space, or widen a limit only if the clinician judges it safe.",
                    target_mmhg=v.target_paco2_mmhg, expected_mmhg=v.expected_paco2_mmhg)]
-    return [_c("caution", "TARGET_BELOW_LIMITS",
+    within = band.min <= v.expected_paco2_mmhg <= band.max
+    return [_c("info" if within else "caution", "TARGET_BELOW_LIMITS",
                f"Even the smallest settings inside the limits over-ventilate: expected PaCO2 "
                f"{fmt(v.expected_paco2_mmhg)} mmHg against a target of {fmt(v.target_paco2_mmhg)} mmHg "
                f"(limited by {limits}); the target would need {fmt(need_rate, 2)}/min at "

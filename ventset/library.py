@@ -316,10 +316,11 @@ def parse_apparatus(data: dict) -> tuple[dict[str, Part], dict[str, CircuitType]
                  "non_rebreathing_below_kg", "rebreathing_maintenance_ml_kg_min",
                  "rebreathing_induction_ml_kg_min", "rebreathing_floor_ml_min",
                  "large_animal_circle_above_kg", "sidestream_sampling_ml_min",
-                 "large_animal_maintenance_ml_kg_min", "large_animal_induction_ml_kg_min"):
+                 "large_animal_maintenance_ml_kg_min", "large_animal_induction_ml_kg_min",
+                 "direct_small_patient_below_kg"):
         if need not in fresh:
             raise r.fail(need, "is missing")
-    for need in ("non_rebreathing", "rebreathing_small_animal", "rebreathing_large_animal"):
+    for need in ("direct_small_patient", "non_rebreathing", "rebreathing_small_animal", "rebreathing_large_animal"):
         if need not in circuits:
             raise DataError(f"apparatus.toml: circuit '{need}' is missing")
     return parts, circuits, fresh

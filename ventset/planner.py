@@ -331,6 +331,8 @@ def plan(request: Request, library: Library | None = None) -> Plan:
         if c.circuit_type not in lib.circuits:
             raise InputError("circuit", c.circuit_type, f"must be one of {', '.join(lib.circuits)}")
         ckey = c.circuit_type
+    elif p.mass_kg < fg["direct_small_patient_below_kg"].value:
+        ckey = "direct_small_patient"
     elif p.mass_kg < fg["non_rebreathing_below_kg"].value:
         ckey = "non_rebreathing"
     elif p.mass_kg > fg["large_animal_circle_above_kg"].value:
@@ -339,7 +341,8 @@ def plan(request: Request, library: Library | None = None) -> Plan:
         ckey = "rebreathing_small_animal"
     circuit = lib.circuits[ckey]
     if c.circuit_type is None:
-        used("Breathing system", circuit.label, "", fg["non_rebreathing_below_kg"].source + "; by body mass")
+        rule = fg["direct_small_patient_below_kg" if ckey == "direct_small_patient" else "non_rebreathing_below_kg"]
+        used("Breathing system", circuit.label, "", f"{rule.source}; chosen by body mass")
     comp_circ = c.compressible_ml_cmh2o if c.compressible_ml_cmh2o is not None else circuit.compressible_ml_cmh2o.value
     if c.compressible_ml_cmh2o is None:
         used("Circuit compressible volume", comp_circ, "mL/cmH2O", circuit.compressible_ml_cmh2o.source)

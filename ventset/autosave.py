@@ -1,0 +1,213 @@
+"""Autosave while a case is edited, and recovery after a crash or power loss.
+
+Each running window owns a session: ``<data dir>/autosave/session-<id>.json`` (the case and the
+file it came from) and ``session-<id>.lock``, locked for as long as the window runs. After a
+crash the lock is free, so the next start finds the session file and offers to restore it.
+Writes are atomic (ventset.storage). Sessions the user declines are moved to ``autosave/dismissed``
+(the newest 20 are kept), not deleted. No Qt here; the window drives it with a timer.
+"""
+
+from __future__ import annotations
+
+import os
+import secrets
+from dataclasses import dataclass
+from datetime import UTC, datetime
+from pathlib import Path
+
+from ventset import storage
+from ventset.cases import Case, case_from_dict, case_to_dict, now_iso
+
+AUTOSAVE_INTERVAL_S = 10
+FORMAT = "ventset-autosave"
+SCHEMA_VERSION = 1
+MAX_BYTES = 12_000_000
+KEEP_DISMISSED = 20
+
+try:  # POSIX advisory locks; released by the kernel when the process dies
+    import fcntl
+except ImportError:  # pragma: no cover - Windows
+    fcntl = None
+
+
+def autosave_dir() -> Path:
+    """The autosave folder inside the user data folder (created if missing)."""
+    folder = storage.data_dir() / "autosave"
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise storage.WriteError(folder, f"the autosave folder cannot be created ({exc.strerror})") from None
+    return folder
+
+
+def _lock_free(lock_path: Path, pid: int) -> bool:
+    """True if no running process holds the lock (the session's owner is gone)."""
+    if fcntl is None:  # pragma: no cover - Windows: fall back to asking whether the pid is alive
+        return not storage._pid_alive(pid)
+    try:
+        fh = lock_path.open("a")
+    except FileNotFoundError:
+        return True
+    except OSError:
+        return False
+    try:
+        fcntl.flock(fh.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+    except OSError:
+        return False
+    else:
+        fcntl.flock(fh.fileno(), fcntl.LOCK_UN)
+        return True
+    finally:
+        fh.close()
+
+
+class AutosaveSession:
+    """The autosave slot of one running window."""
+
+    def __init__(self, folder: Path | None = None) -> None:
+        self.folder = Path(folder) if folder is not None else autosave_dir()
+        self.folder.mkdir(parents=True, exist_ok=True)
+        stamp = datetime.now(UTC).strftime("%Y%m%dT%H%M%S")
+        self.id = f"{stamp}-{os.getpid()}-{secrets.token_hex(3)}"
+        self.path = self.folder / f"session-{self.id}.json"
+        self.lock_path = self.folder / f"session-{self.id}.lock"
+        self._lock = self.lock_path.open("w")
+        if fcntl is not None:
+            fcntl.flock(self._lock.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+        self._last: bytes | None = None
+        self.closed = False
+
+    def save(self, case: Case, source_path: os.PathLike | str | None = None) -> bool:
+        """Autosave ``case`` (edited, not yet saved to ``source_path``); False if nothing changed since last time."""
+        record = {"format": FORMAT, "schema_version": SCHEMA_VERSION, "pid": os.getpid(),
+                  "source_path": str(source_path) if source_path else None, "case": case_to_dict(case)}
+        try:
+            body = storage.dumps(record)
+        except (ValueError, TypeError) as exc:
+            raise storage.WriteError(self.path, f"the case cannot be stored as JSON ({exc})") from None
+        if body == self._last:
+            return False
+        record["updated_at"] = now_iso()
+        storage.atomic_write_bytes(self.path, storage.dumps(record))
+        self._last = body
+        return True
+
+    def clear(self) -> None:
+        """Nothing unsaved any more (the case was saved): remove the autosave file."""
+        self._last = None
+        try:
+            self.path.unlink()
+        except FileNotFoundError:
+            pass
+
+    def close(self, keep_unsaved: bool = True) -> None:
+        """End the session (clean exit). Unsaved work goes to autosave/dismissed unless ``keep_unsaved`` is False."""
+        if self.closed:
+            return
+        if self.path.exists():
+            if keep_unsaved:
+                _to_dismissed(self.path)
+            else:
+                self.clear()
+        self._lock.close()
+        try:
+            self.lock_path.unlink()
+        except FileNotFoundError:
+            pass
+        self.closed = True
+
+
+@dataclass(frozen=True)
+class Recovery:
+    """A session left behind by a window that did not close cleanly."""
+
+    path: Path
+    case: Case | None
+    source_path: Path | None
+    updated_at: str
+    error: str = ""
+
+    @property
+    def title(self) -> str:
+        """One line for the restore question: patient, species, file and time."""
+        if self.case is None:
+            return f"{self.path.name} (cannot be read: {self.error})"
+        p = self.case.request.patient
+        who = f"{p.name} ({p.species}, {p.mass_kg:g} kg)" if p.name else f"{p.species}, {p.mass_kg:g} kg"
+        where = self.source_path.name if self.source_path else "never saved"
+        return f"{who} — {where} — autosaved {self.updated_at.replace('T', ' ').replace('Z', ' UTC')}"
+
+
+def _read(path: Path) -> Recovery:
+    try:
+        data = storage.read_json(path, MAX_BYTES)
+        if not isinstance(data, dict) or data.get("format") != FORMAT:
+            raise ValueError("it is not a ventset autosave file")
+        if data.get("schema_version") != SCHEMA_VERSION:
+            raise ValueError(f"autosave schema {data.get('schema_version')!r} is not {SCHEMA_VERSION}")
+        case, _ = case_from_dict(data.get("case"))
+        source = data.get("source_path")
+        updated = data.get("updated_at")
+        return Recovery(path, case, Path(source) if isinstance(source, str) and source else None,
+                        updated if isinstance(updated, str) else "")
+    except storage.StorageError as exc:
+        return Recovery(path, None, None, "", exc.reason)
+    except ValueError as exc:
+        return Recovery(path, None, None, "", str(exc))
+
+
+def _pid_of(path: Path) -> int:
+    parts = path.stem.split("-")
+    try:
+        return int(parts[-2])
+    except (IndexError, ValueError):
+        return -1
+
+
+def find_recoverable(folder: Path | None = None, exclude: AutosaveSession | None = None) -> list[Recovery]:
+    """Sessions whose window is gone, newest first (unreadable ones too, with the reason)."""
+    folder = Path(folder) if folder is not None else autosave_dir()
+    found = []
+    for path in sorted(folder.glob("session-*.json"), reverse=True):
+        if exclude is not None and path == exclude.path:
+            continue
+        if _lock_free(path.with_suffix(".lock"), _pid_of(path)):
+            found.append(_read(path))
+    return found
+
+
+def _to_dismissed(path: Path) -> None:
+    dest_dir = path.parent / "dismissed"
+    try:
+        dest_dir.mkdir(exist_ok=True)
+        os.replace(path, dest_dir / path.name)
+        storage._fsync_folder(path.parent)
+        for old in sorted(dest_dir.glob("session-*.json"), reverse=True)[KEEP_DISMISSED:]:
+            old.unlink()
+    except OSError as exc:
+        raise storage.WriteError(path, f"cannot move the autosave aside ({exc.strerror})") from None
+
+
+def _remove_lock(rec: Recovery) -> None:
+    try:
+        rec.path.with_suffix(".lock").unlink()
+    except FileNotFoundError:
+        pass
+    except OSError:  # pragma: no cover - a leftover lock file is harmless
+        pass
+
+
+def dismiss(rec: Recovery) -> None:
+    """The user declined to restore: move the session to autosave/dismissed (kept, not deleted)."""
+    if rec.path.exists():
+        _to_dismissed(rec.path)
+    _remove_lock(rec)
+
+
+def restore(rec: Recovery, session: AutosaveSession) -> Case:
+    """Take over a left-behind session: the new session autosaves it first, then the old file is put aside."""
+    if rec.case is None:
+        raise storage.ReadError(rec.path, rec.error or "it cannot be read")
+    session.save(rec.case, rec.source_path)
+    dismiss(rec)
+    return rec.case
