@@ -9,8 +9,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-
-import numpy as np
+from typing import TYPE_CHECKING
 
 from ventset import cautions as caution_rules
 from ventset.errors import InputError
@@ -32,6 +31,9 @@ from ventset.model import (
 )
 from ventset.physiology import deadspace, gas, mechanics, metabolism
 from ventset.units import check_range, fmt
+
+if TYPE_CHECKING:
+    import numpy as np
 
 
 @dataclass(frozen=True)
@@ -68,6 +70,8 @@ def paco2_grid(vt_ml: np.ndarray, rate_per_min: np.ndarray, vco2_ml_min: float, 
 
     PaCO2 = VCO2·K(T) / (f·(VT(1 − f_alv) − VD_fixed)).
     """
+    import numpy as np
+
     eff = breath_alveolar_ml(np.asarray(vt_ml, dtype=float), vd_fixed_ml, f_alv)
     va = np.outer(np.asarray(rate_per_min, dtype=float), eff)
     with np.errstate(divide="ignore", invalid="ignore"):

@@ -3,8 +3,10 @@
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 
 def breath_timing_s(rate_per_min: float, ie_expiratory_part: float) -> tuple[float, float]:
@@ -55,6 +57,8 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
     so a short Te shows as volume not returning to zero (trapped gas). Breaths are simulated in
     sequence, so trapped volume carries over.
     """
+    import numpy as np
+
     c = compliance_ml_cmh2o
     tau = time_constant_s(resistance_cmh2o_l_s, c)
     cycle = 60.0 / rate_per_min
