@@ -187,3 +187,11 @@ def test_species_defaults_plan_for_every_species(library):
         p = plan(Request(Patient(key, mass)), library)
         assert p.ventilation.rate_per_min > 0 and p.ventilation.tidal_volume_ml > 0, key
         assert all(math.isfinite(x) for x in (p.pressures.plateau_cmh2o, p.oxygen.pao2_alveolar_mmhg)), key
+
+
+@pytest.mark.parametrize(("vt", "bag"), [(50, 0.5), (200, 2.0), (6900, 30.0), (30, 0.25)])
+def test_reservoir_bag_is_about_six_tidal_volumes(vt, bag):
+    # Common practice (AAFP/ISFM 2018): bag about 5-6 x VT, rounded up to a stocked size.
+    from ventset.planner import reservoir_bag_l
+
+    assert reservoir_bag_l(vt, 6.0) == bag

@@ -345,6 +345,7 @@ def load_library() -> Library:
     parts, circuits, fresh = parse_apparatus(_load_toml(resource_path("apparatus.toml")))
     cautions = parse_sourced_table(_load_toml(resource_path("cautions.toml")), "cautions.toml", "thresholds")
     planning = parse_sourced_table(_load_toml(resource_path("planning.toml")), "planning.toml", "defaults",
-                                   ("fio2", "ti_reference_s", "ti_reference_mass_kg", "ti_mass_exponent"))
+                                   ("fio2", "ti_reference_s", "ti_reference_mass_kg", "ti_mass_exponent",
+                                    "reservoir_bag_vt_multiple"))
     return Library(species=species, groups=groups, parts=parts, circuits=circuits, fresh_gas=fresh,
                    species_version=str(sp_data.get("data_version", "1")), cautions=cautions, planning=planning)

@@ -178,6 +178,7 @@ class Oxygen:
     fresh_gas_induction_ml_min: float
     circuit_type: str
     circuit_label: str
+    reservoir_bag_l: float = 0.0
 
 
 @dataclass(frozen=True)

@@ -126,6 +126,15 @@ def choose_settings(va_ml_min: float, vd_fixed_ml: float, f_alv: float, vt_lo: f
     return Choice(vt_lo, rate_lo, False, tuple(binding), pref_vt, pref_rate)
 
 
+BAG_SIZES_L = (0.25, 0.5, 1.0, 2.0, 3.0, 4.0, 5.0, 15.0, 30.0)  # commonly stocked reservoir bags
+
+
+def reservoir_bag_l(set_vt_ml: float, multiple: float) -> float:
+    """Smallest stocked bag holding ``multiple`` × the set tidal volume (L); the largest if none does."""
+    need = set_vt_ml * multiple / 1000.0
+    return next((b for b in BAG_SIZES_L if b >= need), BAG_SIZES_L[-1])
+
+
 def default_ti_s(lean_mass_kg: float, species: Species, library: Library) -> tuple[float, str]:
     """Default inspiratory time (s) and its source: the species value, else ~1 s at 20 kg × (M/20)^0.26."""
     if species.inspiratory_time_s is not None:
@@ -383,6 +392,8 @@ def plan(request: Request, library: Library | None = None) -> Plan:
              fg["non_rebreathing_minute_volume_multiple"].value, "× VE",
              fg["non_rebreathing_minute_volume_multiple"].source)
 
+    used("Reservoir bag", lib.planning["reservoir_bag_vt_multiple"].value, "× set VT",
+         lib.planning["reservoir_bag_vt_multiple"].source)
     resolved = Resolved(sp.key, sp.label, p.mass_kg, lean, temp, mode, s.name, ie, f_alv, gradient,
                         sp.gradient_reliable, sp.mechanics_reliable)
     result = Plan(
@@ -394,7 +405,8 @@ def plan(request: Request, library: Library | None = None) -> Plan:
                                 expected - gradient, choice.reached, delivered_va),
         pressures=Pressures(peep, plateau, peak, plateau - peep, insp, limit, compliance, resistance, tau, comp_circ,
                             compressed),
-        oxygen=Oxygen(fio2, pb, ph2o, pao2, min_o2, fresh, induction, ckey, circuit.label),
+        oxygen=Oxygen(fio2, pb, ph2o, pao2, min_o2, fresh, induction, ckey, circuit.label,
+                      reservoir_bag_l(set_vt, lib.planning["reservoir_bag_vt_multiple"].value)),
         limits=Limits(vt_lo_kg * lean, vt_hi_kg * lean, rate_lo, rate_hi, vt_pressure_max, choice.binding),
         cautions=(),
         assumptions=tuple(notes),

@@ -52,7 +52,8 @@ def plan_to_dict(plan: Plan) -> dict:
         "oxygen": {"fio2": _num(o.fio2), "barometric_mmhg": _num(o.barometric_mmhg),
                    "water_vapour_mmhg": _num(o.water_vapour_mmhg), "pao2_alveolar_mmhg": _num(o.pao2_alveolar_mmhg),
                    "min_o2_flow_ml_min": _num(o.min_o2_flow_ml_min), "fresh_gas_ml_min": _num(o.fresh_gas_ml_min),
-                   "fresh_gas_induction_ml_min": _num(o.fresh_gas_induction_ml_min), "circuit": o.circuit_type},
+                   "fresh_gas_induction_ml_min": _num(o.fresh_gas_induction_ml_min), "circuit": o.circuit_type,
+                   "reservoir_bag_l": _num(o.reservoir_bag_l)},
         "limits": {"vt_min_ml": _num(plan.limits.vt_min_ml), "vt_max_ml": _num(plan.limits.vt_max_ml),
                    "rate_min_per_min": _num(plan.limits.rate_min_per_min),
                    "rate_max_per_min": _num(plan.limits.rate_max_per_min),
@@ -88,6 +89,7 @@ def plan_to_text(plan: Plan, gas_unit: str = "mmHg") -> str:
         f"  Fresh gas          {fmt(o.fresh_gas_ml_min / 1000)} L/min ({o.circuit_label}"
         + (f"; {fmt(o.fresh_gas_induction_ml_min / 1000)} L/min at induction)" if o.fresh_gas_induction_ml_min
            > o.fresh_gas_ml_min else ")"),
+        f"  Reservoir bag      {fmt(o.reservoir_bag_l)} L",
         "",
         "DERIVED",
         f"  Metabolic rate     {fmt(m.metabolic_rate_w)} W ({'entered' if m.entered else 'allometric'}); "
