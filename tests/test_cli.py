@@ -106,3 +106,10 @@ def test_missing_argument_is_one_line_exit_2():
 def test_demo_plan(capsys):
     code, out, _ = run(capsys, "demo")
     assert code == 0 and "demo" in out.lower() and "Set tidal volume" in out
+
+
+@pytest.mark.parametrize("command", ["plan", "adjust", "deadspace", "species", "parts", "show"])
+def test_help_of_every_command(command):
+    # argparse treats '%' in help text as a format code; a bare one crashes --help.
+    r = subprocess.run([sys.executable, "-m", "ventset", command, "--help"], capture_output=True, text=True)
+    assert r.returncode == 0 and "usage" in r.stdout and "Traceback" not in r.stderr

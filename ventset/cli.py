@@ -15,7 +15,7 @@ from ventset.units import parse_quantity
 
 # Modules that add subcommands: each defines register(sub, add_request_options) -> {name: handler},
 # and may define extend_plan(p_plan) (extra `plan` options) and after_plan(ns, request, plan).
-EXTENSIONS: tuple[str, ...] = ()
+EXTENSIONS: tuple[str, ...] = ("ventset.cli_cases", "ventset.cli_titrate")
 
 DEMO_ARGS = ["--species", "cat", "--mass", "4.2 kg", "--name", "Pickle (demo)", "--apparatus", "hme_paediatric",
              "--apparatus", "capnograph_mainstream_adult", "--tube-id", "4 mm", "--tube-length", "5 cm"]
@@ -38,7 +38,7 @@ def _add_request_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--circuit", help="non_rebreathing, rebreathing_small_animal, ... (default: by mass)")
     for spec in FIELDS.values():
         p.add_argument(f"--{spec.key}", dest=spec.key.replace("-", "_"), metavar="VALUE",
-                       help=f"{spec.help} [{spec.unit or 'number'}]")
+                       help=f"{spec.help} [{spec.unit or 'number'}]".replace("%", "%%"))
 
 
 def _parts(items: Sequence[str], library) -> tuple[ApparatusPart, ...]:
