@@ -114,3 +114,44 @@ def test_any_float_gives_a_plan_or_a_named_error(value, field):
         return
     v = p.ventilation
     assert all(math.isfinite(x) for x in (v.tidal_volume_ml, v.rate_per_min, v.ti_s, p.pressures.peak_cmh2o))
+
+
+def _with(req, path, value):
+    from dataclasses import replace
+
+    head, attr = path.split(".")
+    return replace(req, **{head: replace(getattr(req, head), **{attr: value})})
+
+
+@st.composite
+def field_values(draw):
+    from ventset.fields import FIELDS
+
+    spec = draw(st.sampled_from([f for f in FIELDS.values() if f.key not in ("target-etco2",)]))
+    lo, hi = spec.lo, spec.hi
+    value = draw(st.one_of(st.floats(lo, hi), st.sampled_from([lo, hi, math.nextafter(lo, math.inf),
+                                                                math.nextafter(hi, -math.inf)])))
+    return spec, value
+
+
+@given(field_values(), st.sampled_from(["dog", "psittacine", "horse", "chelonian", "mouse"]))
+def test_any_value_inside_a_fields_hard_limits_plans_or_names_the_field(fv, species):
+    # Every value a field accepts must give finite settings or an InputError naming a field — never a crash.
+    from ventset.library import load_library
+
+    spec, value = fv
+    sp = load_library().species[species]
+    mass = math.sqrt(sp.mass_kg.min * sp.mass_kg.max)
+    req = Request(Patient(species, mass), Circuit(tube_id_mm=4.0, tube_length_cm=4.0))
+    if spec.key == "tube-length" or spec.key == "tube-id":
+        req = _with(req, "circuit.tube_id_mm", 4.0)
+    req = _with(req, spec.path, value)
+    try:
+        p = plan(req)
+    except InputError as err:
+        assert err.field and err.reason
+        return
+    v = p.ventilation
+    for x in (v.tidal_volume_ml, v.set_tidal_volume_ml, v.rate_per_min, v.ti_s, v.te_s, p.pressures.peak_cmh2o,
+              p.pressures.time_constant_s, p.oxygen.fresh_gas_ml_min):
+        assert math.isfinite(x), (spec.key, value)

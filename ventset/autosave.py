@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import os
 import secrets
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
 
@@ -43,7 +43,7 @@ def autosave_dir() -> Path:
 def _lock_free(lock_path: Path, pid: int) -> bool:
     """True if no running process holds the lock (the session's owner is gone)."""
     if fcntl is None:  # pragma: no cover - Windows: fall back to asking whether the pid is alive
-        return not storage._pid_alive(pid)
+        return not storage.pid_alive(pid)
     try:
         fh = lock_path.open("a")
     except FileNotFoundError:
@@ -71,16 +71,33 @@ class AutosaveSession:
         self.id = f"{stamp}-{os.getpid()}-{secrets.token_hex(3)}"
         self.path = self.folder / f"session-{self.id}.json"
         self.lock_path = self.folder / f"session-{self.id}.lock"
-        self._lock = self.lock_path.open("w")
-        if fcntl is not None:
-            fcntl.flock(self._lock.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+        self._lock = None  # taken before the first autosave, held until close (or the process dies)
         self._last: bytes | None = None
         self.closed = False
 
-    def save(self, case: Case, source_path: os.PathLike | str | None = None) -> bool:
-        """Autosave ``case`` (edited, not yet saved to ``source_path``); False if nothing changed since last time."""
+    def _take_lock(self) -> None:
+        if self._lock is not None:
+            return
+        self._lock = self.lock_path.open("w")
+        if fcntl is not None:
+            fcntl.flock(self._lock.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+
+    def __enter__(self) -> AutosaveSession:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def save(self, case: Case, source_path: os.PathLike | str | None = None,
+             unparsed: dict[str, str] | None = None) -> bool:
+        """Autosave ``case`` (edited, not yet saved to ``source_path``); False if nothing changed since last time.
+
+        ``unparsed`` holds what is typed in fields that do not parse yet (field key → text), so that
+        recovery can put it back even though the case holds only the last valid inputs.
+        """
         record = {"format": FORMAT, "schema_version": SCHEMA_VERSION, "pid": os.getpid(),
-                  "source_path": str(source_path) if source_path else None, "case": case_to_dict(case)}
+                  "source_path": str(source_path) if source_path else None, "case": case_to_dict(case),
+                  "unparsed": dict(unparsed or {})}
         try:
             body = storage.dumps(record)
         except (ValueError, TypeError) as exc:
@@ -88,6 +105,10 @@ class AutosaveSession:
         if body == self._last:
             return False
         record["updated_at"] = now_iso()
+        try:
+            self._take_lock()
+        except OSError as exc:
+            raise storage.WriteError(self.lock_path, exc.strerror or "cannot be locked") from None
         storage.atomic_write_bytes(self.path, storage.dumps(record))
         self._last = body
         return True
@@ -109,11 +130,13 @@ class AutosaveSession:
                 _to_dismissed(self.path)
             else:
                 self.clear()
-        self._lock.close()
-        try:
-            self.lock_path.unlink()
-        except FileNotFoundError:
-            pass
+        if self._lock is not None:
+            self._lock.close()
+            self._lock = None
+            try:
+                self.lock_path.unlink()
+            except FileNotFoundError:
+                pass
         self.closed = True
 
 
@@ -126,6 +149,7 @@ class Recovery:
     source_path: Path | None
     updated_at: str
     error: str = ""
+    unparsed: dict[str, str] = field(default_factory=dict)
 
     @property
     def title(self) -> str:
@@ -148,8 +172,11 @@ def _read(path: Path) -> Recovery:
         case, _ = case_from_dict(data.get("case"))
         source = data.get("source_path")
         updated = data.get("updated_at")
+        raw = data.get("unparsed")
+        unparsed = {k: v for k, v in raw.items() if isinstance(v, str) and len(v) < 500} \
+            if isinstance(raw, dict) else {}
         return Recovery(path, case, Path(source) if isinstance(source, str) and source else None,
-                        updated if isinstance(updated, str) else "")
+                        updated if isinstance(updated, str) else "", unparsed=unparsed)
     except storage.StorageError as exc:
         return Recovery(path, None, None, "", exc.reason)
     except ValueError as exc:
@@ -181,7 +208,7 @@ def _to_dismissed(path: Path) -> None:
     try:
         dest_dir.mkdir(exist_ok=True)
         os.replace(path, dest_dir / path.name)
-        storage._fsync_folder(path.parent)
+        storage.fsync_folder(path.parent)
         for old in sorted(dest_dir.glob("session-*.json"), reverse=True)[KEEP_DISMISSED:]:
             old.unlink()
     except OSError as exc:

@@ -17,7 +17,7 @@ from datetime import UTC, datetime
 from pathlib import Path
 
 from ventset import __version__, storage
-from ventset.errors import InputError
+from ventset.errors import InputError, VentsetError
 from ventset.model import (
     ApparatusPart,
     Circuit,
@@ -117,8 +117,7 @@ def make_case(request: Request, plan=None, *, library=None, plan_error: str = ""
 
     species_version = library.species_version if library is not None else _species_version()
     plan_dict = plan_to_dict(plan) if plan is not None else None
-    if timeline is not None and hasattr(timeline, "to_dict"):
-        timeline = timeline.to_dict()
+    timeline = timeline_data(timeline)
     earlier: tuple[dict, ...] = ()
     created = now_iso()
     if previous is not None:
@@ -129,7 +128,7 @@ def make_case(request: Request, plan=None, *, library=None, plan_error: str = ""
         versions_changed = (previous.ventset_version, previous.species_version) != (__version__, species_version)
         not_by_edit = versions_changed or previous.request == request
         if previous.plan is not None and not_by_edit and compare_plan_dicts(previous.plan, plan_dict):
-            kept = {"plan": previous.plan, "request": request_to_dict(previous.request),
+            kept = {"plan": previous.plan, "request": _jsonable(request_to_dict(previous.request)),
                     "ventset_version": previous.ventset_version, "species_version": previous.species_version,
                     "replaced_at": now_iso()}
             earlier = (*earlier, kept)[-MAX_EARLIER_PLANS:]
@@ -148,7 +147,42 @@ def case_for_request(request: Request, library=None, previous: Case | None = Non
         result = plan(request, lib)
     except InputError as err:
         return make_case(request, None, library=lib, plan_error=str(err), previous=previous, timeline=timeline)
+    except ArithmeticError as exc:  # a planner defect on extreme input must not lose the case
+        return make_case(request, None, library=lib, plan_error=_internal(exc), previous=previous,
+                         timeline=timeline)
     return make_case(request, result, library=lib, previous=previous, timeline=timeline)
+
+
+def _internal(exc: BaseException) -> str:
+    return (f"the plan could not be computed (internal error: {type(exc).__name__}: {exc}); "
+            "please report this with the case file")
+
+
+def timeline_data(timeline: object) -> list | dict | None:
+    """The titration record as stored: a tuple of ventset.titrate.TimelineEntry becomes
+    ``titrate.timeline_to_dict`` output; a dict or list (already stored form) is kept as it is."""
+    if timeline is None or isinstance(timeline, dict | list):
+        return timeline
+    if hasattr(timeline, "to_dict"):
+        return timeline.to_dict()
+    if isinstance(timeline, tuple):
+        from ventset.titrate import timeline_to_dict
+
+        return timeline_to_dict(timeline)
+    raise TypeError(f"cannot store a timeline of type {type(timeline).__name__}")
+
+
+def case_timeline(case: Case) -> tuple:
+    """The titration record of ``case`` as ventset.titrate.TimelineEntry objects (empty if none).
+
+    Raises ventset.errors.DataError if the stored record cannot be read; the raw record stays in the
+    case (and in the file on the next save) either way, so nothing is lost.
+    """
+    if case.timeline is None or case.timeline == []:
+        return ()
+    from ventset.titrate import timeline_from_dict
+
+    return timeline_from_dict(case.timeline)
 
 
 def _species_version() -> str:
@@ -479,9 +513,10 @@ def replan(case: Case, library=None) -> tuple[object | None, str, tuple[str, ...
     lib = library or load_library()
     try:
         result = make_plan(case.request, lib)
-    except InputError as err:
-        diffs = ("The stored inputs no longer give a plan: " + str(err),) if case.plan is not None else ()
-        return None, str(err), diffs
+    except (InputError, ArithmeticError) as err:
+        reason = str(err) if isinstance(err, InputError) else _internal(err)
+        diffs = ("The stored inputs no longer give a plan: " + reason,) if case.plan is not None else ()
+        return None, reason, diffs
     if case.plan is None:
         return result, "", ()
     return result, "", tuple(compare_plan_dicts(case.plan, plan_to_dict(result)))
@@ -511,6 +546,14 @@ def open_case(path: os.PathLike | str, library=None) -> OpenedCase:
         messages.append("The stored plan stays in the file until you save; saving keeps it under 'earlier plans'.")
     elif error:
         messages.append(f"The stored inputs cannot be planned: {error}")
+    if case.timeline is not None:
+        try:
+            case_timeline(case)
+        except ImportError:  # pragma: no cover - the titration module ships with ventset
+            pass
+        except (VentsetError, ValueError, TypeError, KeyError) as exc:
+            messages.append(f"The anaesthetic record in this case cannot be read by this version ({exc}); it is "
+                            "kept unchanged in the file.")
     return OpenedCase(case, loaded.path, result, error, diffs, tuple(messages), loaded.migrated_from)
 
 

@@ -56,10 +56,23 @@ def _parts(items: Sequence[str], library) -> tuple[ApparatusPart, ...]:
         elif name in library.parts:
             part = library.parts[name]
             out.append(ApparatusPart(part.label, part.volume_ml.value, part.volume_ml.source))
+        elif (clinic := _clinic_part(name)) is not None:
+            out.append(clinic)
         else:
-            raise InputError("--apparatus", item, "is not a catalogue part; give a volume, e.g. 'hme=12 mL' "
-                                                  "(see 'ventset parts')")
+            raise InputError("--apparatus", item, "is not a catalogue or clinic part; give a volume, e.g. "
+                                                  "'hme=12 mL' (see 'ventset parts', 'ventset clinic-parts list')")
     return tuple(out)
+
+
+def _clinic_part(name: str) -> ApparatusPart | None:
+    """A part from the clinic's own library (user data folder), or None."""
+    from ventset.partslib import load_clinic_library
+
+    try:
+        part = load_clinic_library().part(name)
+    except VentsetError:
+        return None
+    return part.as_apparatus() if part is not None else None
 
 
 def request_from_args(ns: argparse.Namespace, library) -> Request:

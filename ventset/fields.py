@@ -39,7 +39,7 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
               "Default: the species' normal value (reptiles: middle of the preferred temperature zone).",
               lo_open=False),
     FieldSpec("metabolic-rate", "Metabolic rate", "patient.metabolic_rate_w", "W", ("W", "kcal/day", "kJ/h"),
-              0.0, 1e5, "Measured or estimated metabolic rate ('60 W', '1200 kcal/day', '250 kJ/h'). "
+              1e-4, 1e5, "Measured or estimated metabolic rate ('60 W', '1200 kcal/day', '250 kJ/h'). "
               "Default: allometric estimate for the species' metabolic group."),
     FieldSpec("rq", "Respiratory quotient", "patient.rq", "", ("",), 0.6, 1.3,
               "VCO2/VO2. Default 0.8 for a fasted patient (common practice).", lo_open=False),
@@ -47,12 +47,12 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
               ("",), 0.0, 0.8, "Fraction of each breath reaching unperfused alveoli. Default: species value.",
               lo_open=False),
     FieldSpec("compliance", "Respiratory-system compliance", "patient.compliance_ml_cmh2o", "mL/cmH2O",
-              ("mL/cmH2O", "L/cmH2O"), 0.0, 1e5, "Measured static compliance of the whole respiratory system. "
+              ("mL/cmH2O", "L/cmH2O"), 0.005, 1e5, "Measured static compliance of the whole respiratory system. "
               "Default: species value per kg lean mass."),
     FieldSpec("resistance", "Airway resistance", "patient.resistance_cmh2o_l_s", "cmH2O*s/L", ("cmH2O*s/L",),
-              0.0, 1e5, "Inspiratory resistance including the tube, cmH2O/(L/s). Default: species value scaled "
+              0.05, 5000.0, "Inspiratory resistance including the tube, cmH2O/(L/s). Default: species value scaled "
               "by mass."),
-    FieldSpec("tube-id", "Tube internal diameter", "circuit.tube_id_mm", "mm", ("mm",), 0.0, 60.0,
+    FieldSpec("tube-id", "Tube internal diameter", "circuit.tube_id_mm", "mm", ("mm",), 0.5, 60.0,
               "Endotracheal tube internal diameter.", group="circuit"),
     FieldSpec("tube-length", "Tube beyond incisors", "circuit.tube_length_cm", "cm", ("cm", "mm"), 0.0, 100.0,
               "Length of tube (and connector) from the incisors to the circuit; its volume is dead space.",
@@ -87,9 +87,9 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
               group="targets"),
     FieldSpec("barometric-pressure", "Barometric pressure", "targets.barometric_mmhg", "mmHg", ("mmHg", "kPa"),
               300.0, 800.0, "Measured barometric pressure; overrides altitude.", lo_open=False, group="targets"),
-    FieldSpec("vt-per-kg", "Tidal volume per kg", "strategy.vt_ml_kg", "mL/kg", ("mL/kg",), 0.0, 60.0,
+    FieldSpec("vt-per-kg", "Tidal volume per kg", "strategy.vt_ml_kg", "mL/kg", ("mL/kg",), 0.5, 60.0,
               "Tidal volume per kg lean mass to start from. Default: species start value.", group="strategy"),
-    FieldSpec("rate", "Rate", "strategy.rate_per_min", "1/min", ("1/min",), 0.0, 300.0,
+    FieldSpec("rate", "Rate", "strategy.rate_per_min", "1/min", ("1/min",), 0.5, 300.0,
               "Breath rate to hold; tidal volume then follows from the target.", group="strategy"),
 )}
 

@@ -69,7 +69,8 @@ def _os_reason(exc: OSError) -> str:
     return exc.strerror or type(exc).__name__
 
 
-def _fsync_folder(folder: Path) -> None:
+def fsync_folder(folder: Path) -> None:
+    """Make a rename or removal in ``folder`` durable (no-op on Windows)."""
     if sys.platform.startswith("win"):  # pragma: no cover - folders cannot be opened for fsync on Windows
         return
     fd = os.open(folder, os.O_RDONLY)
@@ -104,7 +105,7 @@ def atomic_write_bytes(path: os.PathLike | str, data: bytes) -> None:
             pass
         os.replace(tmp, target)
         tmp = None
-        _fsync_folder(folder)
+        fsync_folder(folder)
     except OSError as exc:
         raise WriteError(target, _os_reason(exc)) from None
     finally:
@@ -130,7 +131,8 @@ def atomic_write_json(path: os.PathLike | str, obj: object) -> None:
     atomic_write_bytes(path, data)
 
 
-def _pid_alive(pid: int) -> bool:
+def pid_alive(pid: int) -> bool:
+    """True if a process with this id exists (on Windows: assumed, the age rule then decides)."""
     if pid <= 0:
         return False
     if sys.platform.startswith("win"):  # pragma: no cover - no cheap check; fall back to the age rule
@@ -164,7 +166,7 @@ def clean_stale_temps(target: os.PathLike | str) -> list[Path]:
             continue
         pid_text = name[len(prefix):].split(".", 1)[0]
         try:
-            stale = not _pid_alive(int(pid_text)) or now - entry.stat().st_mtime > STALE_TEMP_AGE_S
+            stale = not pid_alive(int(pid_text)) or now - entry.stat().st_mtime > STALE_TEMP_AGE_S
             if stale and entry.is_file():
                 entry.unlink()
                 removed.append(entry)

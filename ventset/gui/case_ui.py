@@ -1,0 +1,794 @@
+"""Case files, autosave and recovery, the clinic parts library and the printed plan, in the window.
+
+``install(window)`` adds to the window's Case menu (``window.menu("Case")``): Open, Open recent,
+Save, Save as, Print plan (preview, PDF, printer), Copy summary and Clinic parts library. It
+autosaves the edited case every few seconds (ventset.autosave), asks before closing with unsaved
+changes (an event filter on the window, so MainWindow.closeEvent is untouched), and offers to
+restore what a crash left behind. It talks to the planning only through ``window.controller``
+(``set_request``, ``request``, ``plan``, ``stale``, ``errors``, ``plan_ready``, ``plan_invalid``).
+
+The anaesthetic record: the panel that has ``entries``, ``set_entries(entries)`` and a
+``record_changed`` signal (ventset.gui.timeline.TimelinePanel) is found among the window's children
+after start-up and its record is stored in the case; ``manager.register_timeline(get, put)`` does
+the same for any other provider.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import os
+from collections.abc import Callable
+from pathlib import Path
+
+from PySide6.QtCore import QEvent, QObject, Qt, QTimer, Signal
+from PySide6.QtGui import QAction, QGuiApplication, QKeySequence, QPixmap
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QDialog,
+    QDialogButtonBox,
+    QFileDialog,
+    QHBoxLayout,
+    QHeaderView,
+    QInputDialog,
+    QLabel,
+    QMenu,
+    QMessageBox,
+    QPushButton,
+    QScrollArea,
+    QTableWidget,
+    QTableWidgetItem,
+    QTabWidget,
+    QVBoxLayout,
+    QWidget,
+)
+
+from ventset import autosave, cases, partslib
+from ventset.errors import InputError, VentsetError
+from ventset.units import fmt
+
+CASE_FILTER = f"ventset case (*{cases.SUFFIX});;JSON (*.json);;All files (*)"
+PDF_FILTER = "PDF (*.pdf)"
+
+
+def _first_error(errors) -> str:
+    if not errors:
+        return ""
+    e = errors[0]
+    return f"{e.field} — {e.reason}"
+
+
+class CaseManager(QObject):
+    """Keeps the window's case: its file, what was last saved, autosave and recovery."""
+
+    saved = Signal(object)    # Path
+    opened = Signal(object)   # cases.OpenedCase
+
+    def __init__(self, window, *, autosave_folder: Path | None = None,
+                 interval_s: float = autosave.AUTOSAVE_INTERVAL_S) -> None:
+        super().__init__(window)
+        self.window = window
+        self.controller = window.controller
+        self.library = window.library
+        self.path: Path | None = None
+        self.case: cases.Case | None = None
+        self._baseline = self.controller.request
+        self._timeline_get: Callable[[], object] | None = None
+        self._timeline_put: Callable[[object], None] | None = None
+        self._changed_outside = False
+        try:
+            self.session: autosave.AutosaveSession | None = autosave.AutosaveSession(autosave_folder)
+        except (OSError, VentsetError) as exc:  # no autosave is bad, but not a reason to refuse to start
+            self.session = None
+            self._status(f"Autosave is off: {exc}")
+        self.timer = QTimer(self)
+        self.timer.setInterval(int(interval_s * 1000))
+        self.timer.timeout.connect(self.autosave_now)
+        self.timer.start()
+        self.controller.plan_ready.connect(self._refresh_title)
+        self.controller.plan_invalid.connect(self._refresh_title)
+        window.installEventFilter(self)
+
+    # ------------------------------------------------------------------ state
+    def register_timeline(self, get: Callable[[], object], put: Callable[[object], None]) -> None:
+        """The titration panel's record: ``get()`` for saving, ``put(entries)`` when a case is opened."""
+        self._timeline_get, self._timeline_put = get, put
+
+    def attach_timeline_panel(self) -> bool:
+        """Find the anaesthetic-record panel among the window's children (it has ``entries``, ``set_entries``
+        and ``record_changed``) and keep its record in the case. True if one was found."""
+        if self._timeline_get is not None:
+            return True
+        for child in self.window.findChildren(QWidget):
+            if all(hasattr(child, a) for a in ("entries", "set_entries", "record_changed")):
+                self.register_timeline(lambda c=child: c.entries, child.set_entries)
+                child.record_changed.connect(self._refresh_title)
+                if self.case is not None and self.case.timeline is not None:
+                    self._put_timeline(self.case)
+                return True
+        return False
+
+    def mark_changed(self) -> None:
+        """Something outside the form (e.g. the anaesthetic record) changed: the case is unsaved."""
+        self._changed_outside = True
+        self._refresh_title()
+
+    def _timeline(self) -> object:
+        if self._timeline_get is None:
+            return None
+        return cases.timeline_data(self._timeline_get())
+
+    def unparsed(self) -> dict[str, str]:
+        """Text typed in fields that do not parse yet (kept by autosave)."""
+        form = getattr(self.window, "form", None)
+        if form is None or not self.controller.stale:
+            return {}
+        state = getattr(form, "state", {})
+        return {k: state.get(f"text:{k}", "") for k in sorted(form.invalid_keys()) if f"text:{k}" in state}
+
+    def is_dirty(self) -> bool:
+        """True when what is in the window differs from the case file (or, unsaved, from the start)."""
+        if self._changed_outside or self.controller.stale:
+            return True
+        if self.controller.request != (self.case.request if self.case else self._baseline):
+            return True
+        stored = self.case.timeline if self.case else None
+        current = self._timeline()
+        return current is not None and current != stored and not (stored is None and _empty_timeline(current))
+
+    def snapshot(self) -> cases.Case:
+        """The case as it is in the window now."""
+        request = self.controller.request
+        plan = self.controller.plan
+        if plan is not None and plan.request != request:
+            plan = None
+        error = "" if plan is not None else (_first_error(self.controller.errors) or "no plan")
+        return cases.make_case(request, plan, library=self.library, plan_error=error, previous=self.case,
+                               timeline=self._timeline())
+
+    # ------------------------------------------------------------------ autosave and recovery
+    def autosave_now(self) -> bool:
+        """Write the autosave if there are unsaved changes; clear it if there are none."""
+        if self.session is None or self.controller.request is None:
+            return False
+        try:
+            if self.is_dirty():
+                return self.session.save(self.snapshot(), self.path, self.unparsed())
+            self.session.clear()
+        except VentsetError as exc:
+            self._status(f"Autosave failed: {exc}")
+        return False
+
+    def offer_recovery(self) -> bool:
+        """After a crash: ask to restore each left-behind case (newest first); True if one was restored."""
+        if self.session is None:
+            return False
+        self.attach_timeline_panel()
+        for rec in autosave.find_recoverable(exclude=self.session):
+            if rec.case is None:
+                self.inform("An autosaved case could not be read",
+                            f"{rec.title}\n\nIt has been moved to {rec.path.parent / 'dismissed'}.")
+                autosave.dismiss(rec)
+                continue
+            answer = self.ask_restore(rec)
+            if answer == "restore":
+                case = autosave.restore(rec, self.session)
+                self._load(case, rec.source_path, dirty=True)
+                form = getattr(self.window, "form", None)
+                for key, text in rec.unparsed.items():
+                    if form is not None and hasattr(form, "set_text"):
+                        try:
+                            form.set_text(key, text)
+                        except (KeyError, InputError):
+                            pass
+                self._status("Restored the case that was being edited when ventset stopped. Save it to keep it.")
+                return True
+            if answer == "dismiss":
+                autosave.dismiss(rec)
+        return False
+
+    # ------------------------------------------------------------------ open / save
+    def open_path(self, path: Path) -> bool:
+        """Open a case file; on failure the case in the window is left as it is."""
+        try:
+            opened = cases.open_case(path, self.library)
+        except VentsetError as exc:
+            self.warn("The case could not be opened", f"{exc}\n\nThe case in the window is unchanged.")
+            return False
+        self._load(opened.case, opened.path, dirty=False)
+        cases.add_recent(opened.path)
+        if opened.messages:
+            self.inform("Opened with notes", "\n".join(opened.messages))
+        self._status(f"Opened {opened.path}")
+        self.opened.emit(opened)
+        return True
+
+    def _load(self, case: cases.Case, path: Path | None, *, dirty: bool) -> None:
+        """Show ``case``; ``dirty`` for a restored autosave (unsaved until the user saves it)."""
+        self.case = case
+        self.path = Path(path) if path else None
+        self._put_timeline(case)
+        self.controller.set_request(case.request)
+        self.controller.flush()
+        self._changed_outside = dirty
+        self._refresh_title()
+
+    def _put_timeline(self, case: cases.Case) -> None:
+        if self._timeline_put is None:
+            return
+        try:
+            self._timeline_put(cases.case_timeline(case))
+        except (VentsetError, ValueError, TypeError, KeyError) as exc:
+            self.warn("Anaesthetic record not shown", f"The record in this case cannot be read ({exc}); "
+                      "it is kept in the file unchanged.")
+
+    def save(self) -> bool:
+        """Save to the case's file (asks for one if it has none)."""
+        if self.path is None:
+            return self.save_as()
+        return self._save_to(self.path, replace_any=False)
+
+    def save_as(self) -> bool:
+        """Ask for a file and save there (the dialog has confirmed any replacement)."""
+        suggested = self.path or Path.home() / f"{_slug(self.controller.request)}{cases.SUFFIX}"
+        chosen = self.pick_save_path("Save case", str(suggested), CASE_FILTER)
+        if not chosen:
+            return False
+        path = Path(chosen)
+        if not path.suffix:
+            path = path.with_suffix(cases.SUFFIX)
+        return self._save_to(path, replace_any=True)
+
+    def _save_to(self, path: Path, *, replace_any: bool) -> bool:
+        if self.controller.stale:
+            if not self.confirm("Some entries are not valid",
+                                f"{_first_error(self.controller.errors)}.\n\nSave the last valid inputs? "
+                                "What is typed in the invalid fields is not saved in the case."):
+                return False
+        case = self.snapshot()
+        try:
+            saved = cases.save_case(path, case, replace_any=replace_any)
+        except VentsetError as exc:
+            self.warn("The case was not saved", f"{exc}\n\nNothing was changed. Try 'Save as'.")
+            return False
+        self.case, self.path = saved, path
+        self._changed_outside = False
+        cases.add_recent(path)
+        if self.session is not None and not self.is_dirty():
+            self.session.clear()
+        self._status(f"Saved {path}")
+        self._refresh_title()
+        self.saved.emit(path)
+        return True
+
+    def ask_to_keep_changes(self) -> bool:
+        """Before replacing or closing the case: True to go on (saved or discarded), False to stop."""
+        if not self.is_dirty():
+            return True
+        answer = self.ask_save_discard_cancel()
+        if answer == "save":
+            return self.save()
+        return answer == "discard"
+
+    def open_dialog(self) -> bool:
+        if not self.ask_to_keep_changes():
+            return False
+        start = str(self.path.parent) if self.path else str(Path.home())
+        chosen = self.pick_open_path("Open case", start, CASE_FILTER)
+        return bool(chosen) and self.open_path(Path(chosen))
+
+    def open_recent(self, path: Path) -> bool:
+        if not self.ask_to_keep_changes():
+            return False
+        if not self.open_path(path):
+            cases.remove_recent(path)
+            return False
+        return True
+
+    # ------------------------------------------------------------------ printed plan and summary
+    def current_plan(self):
+        """The plan on screen if it is current, else None (after telling the user why)."""
+        plan = self.controller.plan
+        if plan is None or self.controller.stale or plan.request != self.controller.request:
+            self.warn("No current plan", "The plan on screen does not match the inputs "
+                      f"({_first_error(self.controller.errors) or 'no plan yet'}). Fix the input first; "
+                      "an out-of-date plan is never printed.")
+            return None
+        return plan
+
+    def _gas_unit(self) -> str:
+        form = getattr(self.window, "form", None)
+        return form.gas_unit() if form is not None and hasattr(form, "gas_unit") else "mmHg"
+
+    def write_pdf(self, path: Path | None = None) -> Path | None:
+        from ventset.gui.printing import write_plan_pdf
+
+        plan = self.current_plan()
+        if plan is None:
+            return None
+        if path is None:
+            stem = self.path.stem if self.path else _slug(plan.request)
+            base = self.path.parent if self.path else Path.home()
+            chosen = self.pick_save_path("Save printed plan as PDF", str(base / f"{stem}-plan.pdf"), PDF_FILTER)
+            if not chosen:
+                return None
+            path = Path(chosen)
+            if not path.suffix:
+                path = path.with_suffix(".pdf")
+        try:
+            info = write_plan_pdf(plan, path, gas_unit=self._gas_unit(), case_name=self.path.name if self.path
+                                  else "")
+        except VentsetError as exc:
+            self.warn("The PDF was not written", str(exc))
+            return None
+        left = f"; {info.assumptions_omitted} assumptions did not fit" if info.assumptions_omitted else ""
+        self._status(f"Wrote {path}{left}")
+        return path
+
+    def print_to_printer(self) -> bool:
+        from PySide6.QtPrintSupport import QPrintDialog, QPrinter
+
+        from ventset.gui.printing import print_plan
+
+        plan = self.current_plan()
+        if plan is None:
+            return False
+        printer = QPrinter(QPrinter.PrinterMode.HighResolution)
+        dialog = QPrintDialog(printer, self.window)
+        if dialog.exec() != QDialog.DialogCode.Accepted:
+            return False
+        print_plan(plan, printer, gas_unit=self._gas_unit(), case_name=self.path.name if self.path else "")
+        return True
+
+    def preview(self) -> QDialog | None:
+        plan = self.current_plan()
+        if plan is None:
+            return None
+        dialog = PrintPreview(self, plan)
+        dialog.open()
+        return dialog
+
+    def copy_summary(self) -> str:
+        from ventset.summary import plan_summary
+
+        plan = self.controller.plan
+        if plan is None:
+            return ""
+        text = plan_summary(plan, self._gas_unit())
+        if self.controller.stale or plan.request != self.controller.request:
+            text = "NOT CURRENT (inputs changed; fix them first) — " + _first_error(self.controller.errors) + \
+                "\n" + text
+        QGuiApplication.clipboard().setText(text)
+        self._status("Summary copied for the clinical record")
+        return text
+
+    def parts_dialog(self) -> ClinicPartsDialog:
+        dialog = ClinicPartsDialog(self)
+        dialog.open()
+        return dialog
+
+    # ------------------------------------------------------------------ the window
+    def eventFilter(self, obj, event) -> bool:  # noqa: N802 - Qt override
+        if obj is self.window and event.type() == QEvent.Type.Close:
+            if not self.ask_to_keep_changes():
+                event.ignore()
+                return True
+            self.close_session()
+        return False
+
+    def close_session(self) -> None:
+        if self.session is not None:
+            self.session.close(keep_unsaved=True)
+            self.session = None
+        self.timer.stop()
+
+    def _refresh_title(self, *_: object) -> None:
+        req = self.controller.request
+        who = (req.patient.name or req.patient.species) if req is not None else ""
+        where = self.path.name if self.path else "not saved"
+        self.window.setWindowTitle(f"ventset — {who} — {where}[*]")
+        self.window.setWindowModified(self.is_dirty())
+
+    def _status(self, text: str) -> None:
+        bar = self.window.statusBar() if hasattr(self.window, "statusBar") else None
+        if bar is not None:
+            bar.showMessage(text, 8000)
+
+    # ------------------------------------------------------------------ dialogs (replaced in tests)
+    def ask_save_discard_cancel(self) -> str:
+        box = QMessageBox(QMessageBox.Icon.Question, "Unsaved changes",
+                          "The case has changes that are not saved in a case file.", parent=self.window)
+        box.setInformativeText("Save them, discard them (a copy stays in the autosave folder), or go back?")
+        save = box.addButton("Save…", QMessageBox.ButtonRole.AcceptRole)
+        discard = box.addButton("Discard", QMessageBox.ButtonRole.DestructiveRole)
+        box.addButton("Cancel", QMessageBox.ButtonRole.RejectRole)
+        box.exec()
+        clicked = box.clickedButton()
+        return "save" if clicked is save else "discard" if clicked is discard else "cancel"
+
+    def ask_restore(self, rec: autosave.Recovery) -> str:
+        box = QMessageBox(QMessageBox.Icon.Question, "Restore unsaved case?",
+                          "ventset did not close normally last time. A case was being edited:", parent=self.window)
+        box.setInformativeText(rec.title)
+        restore = box.addButton("Restore", QMessageBox.ButtonRole.AcceptRole)
+        aside = box.addButton("Set aside", QMessageBox.ButtonRole.DestructiveRole)
+        box.addButton("Ask next time", QMessageBox.ButtonRole.RejectRole)
+        box.exec()
+        clicked = box.clickedButton()
+        return "restore" if clicked is restore else "dismiss" if clicked is aside else "later"
+
+    def pick_open_path(self, title: str, start: str, filters: str) -> str:
+        return QFileDialog.getOpenFileName(self.window, title, start, filters)[0]
+
+    def pick_save_path(self, title: str, start: str, filters: str) -> str:
+        return QFileDialog.getSaveFileName(self.window, title, start, filters)[0]
+
+    def warn(self, title: str, text: str) -> None:
+        QMessageBox.warning(self.window, title, text)
+
+    def inform(self, title: str, text: str) -> None:
+        QMessageBox.information(self.window, title, text)
+
+    def confirm(self, title: str, text: str) -> bool:
+        answer = QMessageBox.question(self.window, title, text)
+        return answer == QMessageBox.StandardButton.Yes
+
+    def ask_text(self, title: str, label: str, text: str = "") -> str:
+        value, ok = QInputDialog.getText(self.window, title, label, text=text)
+        return value if ok else ""
+
+
+def _empty_timeline(data: object) -> bool:
+    return data in ([], {}) or (isinstance(data, dict) and not data.get("entries"))
+
+
+def _slug(request) -> str:
+    if request is None:
+        return "case"
+    name = request.patient.name or request.patient.species or "case"
+    keep = "".join(ch if ch.isalnum() or ch in "-_" else "-" for ch in name.strip().lower())
+    return "-".join(filter(None, keep.split("-")))[:40] or "case"
+
+
+class PrintPreview(QDialog):
+    """The page as it will print, with Save as PDF and Print."""
+
+    def __init__(self, manager: CaseManager, plan) -> None:
+        from ventset.gui.printing import plan_page_image
+
+        super().__init__(manager.window)
+        self.setWindowTitle("Printed plan")
+        self.manager = manager
+        layout = QVBoxLayout(self)
+        scroll = QScrollArea(self)
+        scroll.setWidgetResizable(False)
+        self.page = QLabel(scroll)
+        width = max(700, self.fontMetrics().averageCharWidth() * 110)
+        self.image = plan_page_image(plan, width, gas_unit=manager._gas_unit(),
+                                     case_name=manager.path.name if manager.path else "")
+        self.page.setPixmap(QPixmap.fromImage(self.image))
+        self.page.setAccessibleName("Preview of the printed plan")
+        scroll.setWidget(self.page)
+        layout.addWidget(scroll, 1)
+        buttons = QDialogButtonBox(self)
+        self.pdf_button = buttons.addButton("Save as PDF…", QDialogButtonBox.ButtonRole.AcceptRole)
+        self.print_button = buttons.addButton("Print…", QDialogButtonBox.ButtonRole.ActionRole)
+        buttons.addButton(QDialogButtonBox.StandardButton.Close)
+        self.pdf_button.clicked.connect(lambda: self.manager.write_pdf() and self.accept())
+        self.print_button.clicked.connect(lambda: self.manager.print_to_printer() and self.accept())
+        buttons.rejected.connect(self.reject)
+        layout.addWidget(buttons)
+        screen = QGuiApplication.primaryScreen()
+        h = int(screen.availableGeometry().height() * 0.85) if screen else 900
+        self.resize(width + 70, h)
+
+
+PART_COLUMNS = ("Name", "Volume (mL)", "Note", "Measured by", "Measured on")
+
+
+class ClinicPartsDialog(QDialog):
+    """The clinic's own parts and presets (editable), and the shipped catalogue (read only)."""
+
+    def __init__(self, manager: CaseManager) -> None:
+        super().__init__(manager.window)
+        self.manager = manager
+        self.setWindowTitle("Clinic parts library")
+        self.lib = partslib.ClinicLibrary()
+        self.error = ""
+        try:
+            self.lib = partslib.load_clinic_library()
+        except VentsetError as exc:
+            self.error = str(exc)
+        layout = QVBoxLayout(self)
+        self.where = QLabel(self)
+        self.where.setWordWrap(True)
+        layout.addWidget(self.where)
+        self.tabs = QTabWidget(self)
+        layout.addWidget(self.tabs, 1)
+
+        own = QWidget(self.tabs)
+        ol = QVBoxLayout(own)
+        self.parts_table = QTableWidget(0, len(PART_COLUMNS), own)
+        self.parts_table.setObjectName("clinic-parts")
+        self.parts_table.setHorizontalHeaderLabels(PART_COLUMNS)
+        header = self.parts_table.horizontalHeader()
+        for col, mode in enumerate((QHeaderView.ResizeMode.Stretch, QHeaderView.ResizeMode.ResizeToContents,
+                                    QHeaderView.ResizeMode.Stretch, QHeaderView.ResizeMode.ResizeToContents,
+                                    QHeaderView.ResizeMode.ResizeToContents)):
+            header.setSectionResizeMode(col, mode)
+        self.parts_table.horizontalHeaderItem(4).setToolTip("Date written YYYY-MM-DD, e.g. 2024-02-11")
+        self.parts_table.setToolTip("Double-click a cell to edit it; each change is checked and saved at once.")
+        self.parts_table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.parts_table.itemChanged.connect(self._part_edited)
+        ol.addWidget(self.parts_table, 1)
+        row = QHBoxLayout()
+        self.add_part_button = QPushButton("New part…", own)
+        self.add_part_button.clicked.connect(self.new_part)
+        self.remove_part_button = QPushButton("Remove", own)
+        self.remove_part_button.clicked.connect(self.remove_part)
+        self.use_part_button = QPushButton("Add to the current circuit", own)
+        self.use_part_button.clicked.connect(self.use_part)
+        for b in (self.add_part_button, self.remove_part_button, self.use_part_button):
+            row.addWidget(b)
+        row.addStretch(1)
+        ol.addLayout(row)
+        self.tabs.addTab(own, "This clinic's parts")
+
+        presets = QWidget(self.tabs)
+        pl = QVBoxLayout(presets)
+        self.preset_table = QTableWidget(0, 4, presets)
+        self.preset_table.setObjectName("clinic-presets")
+        self.preset_table.setHorizontalHeaderLabels(("Name", "Parts", "Compressible (mL/cmH2O)", "Circuit type"))
+        self.preset_table.horizontalHeader().setSectionResizeMode(1, QHeaderView.ResizeMode.Stretch)
+        self.preset_table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.preset_table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        pl.addWidget(self.preset_table, 1)
+        row = QHBoxLayout()
+        self.save_preset_button = QPushButton("Save the current circuit as a preset…", presets)
+        self.save_preset_button.clicked.connect(self.save_preset)
+        self.use_preset_button = QPushButton("Use for the current case", presets)
+        self.use_preset_button.clicked.connect(self.use_preset)
+        self.remove_preset_button = QPushButton("Remove", presets)
+        self.remove_preset_button.clicked.connect(self.remove_preset)
+        for b in (self.save_preset_button, self.use_preset_button, self.remove_preset_button):
+            row.addWidget(b)
+        row.addStretch(1)
+        pl.addLayout(row)
+        self.tabs.addTab(presets, "Circuit presets")
+
+        shipped = QTableWidget(0, 3, self.tabs)
+        shipped.setObjectName("catalogue-parts")
+        shipped.setHorizontalHeaderLabels(("Part", "Volume (mL)", "Source of the volume"))
+        shipped.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        shipped.horizontalHeader().setSectionResizeMode(2, QHeaderView.ResizeMode.Stretch)
+        shipped.setWordWrap(False)
+        shipped.verticalHeader().setVisible(False)
+        rows = [r for r in partslib.all_parts(partslib.ClinicLibrary(), manager.library)]
+        shipped.setRowCount(len(rows))
+        for i, r in enumerate(rows):
+            for j, text in enumerate((r.name, fmt(r.volume_ml), r.source)):
+                item = QTableWidgetItem(text)
+                item.setToolTip(f"{r.name}: {fmt(r.volume_ml)} mL — {r.source}")
+                shipped.setItem(i, j, item)
+        shipped.setColumnWidth(0, self.fontMetrics().averageCharWidth() * 46)
+        shipped.setColumnWidth(1, self.fontMetrics().averageCharWidth() * 16)
+        self.catalogue_table = shipped
+        self.tabs.addTab(shipped, "Shipped catalogue (typical volumes)")
+
+        buttons = QDialogButtonBox(self)
+        self.import_button = buttons.addButton("Import…", QDialogButtonBox.ButtonRole.ActionRole)
+        self.export_button = buttons.addButton("Export…", QDialogButtonBox.ButtonRole.ActionRole)
+        buttons.addButton(QDialogButtonBox.StandardButton.Close)
+        self.import_button.clicked.connect(self.import_file)
+        self.export_button.clicked.connect(self.export_file)
+        buttons.rejected.connect(self.reject)
+        layout.addWidget(buttons)
+        self._fill()
+        m = self.fontMetrics()
+        self.resize(m.averageCharWidth() * 135, m.height() * 30)
+
+    # ---------------------------------------------------------------- view
+    def _fill(self) -> None:
+        if self.error:
+            self.where.setText(f"{self.error}\nThe file is left as it is; fix or move it to edit the library.")
+        else:
+            self.where.setText(f"Saved on this machine in {partslib.library_path()}. Share it with Export and "
+                               "Import: entries with the same name and different values are reported, never "
+                               "overwritten.")
+        editable = not self.error
+        for w in (self.add_part_button, self.remove_part_button, self.save_preset_button,
+                  self.remove_preset_button, self.import_button):
+            w.setEnabled(editable)
+        self.parts_table.blockSignals(True)
+        self.parts_table.setRowCount(len(self.lib.parts))
+        for i, p in enumerate(self.lib.parts):
+            for j, text in enumerate((p.name, fmt(p.volume_ml, 4), p.note, p.measured_by, p.measured_on)):
+                item = QTableWidgetItem(text)
+                if not editable:
+                    item.setFlags(item.flags() & ~Qt.ItemFlag.ItemIsEditable)
+                self.parts_table.setItem(i, j, item)
+        self.parts_table.blockSignals(False)
+        self.preset_table.setRowCount(len(self.lib.presets))
+        for i, s in enumerate(self.lib.presets):
+            parts = "; ".join(f"{p.name} {fmt(p.volume_ml)} mL" for p in s.parts) or "none"
+            comp = "—" if s.compressible_ml_cmh2o is None else fmt(s.compressible_ml_cmh2o)
+            for j, text in enumerate((s.name, parts, comp, s.circuit_type or "by body mass")):
+                self.preset_table.setItem(i, j, QTableWidgetItem(text))
+
+    def _store(self, lib: partslib.ClinicLibrary) -> bool:
+        try:
+            partslib.save_clinic_library(lib)
+        except VentsetError as exc:
+            self.manager.warn("The clinic library was not saved", str(exc))
+            self._fill()
+            return False
+        self.lib = lib
+        self._fill()
+        return True
+
+    def _selected(self, table: QTableWidget) -> int:
+        rows = sorted({i.row() for i in table.selectedIndexes()})
+        return rows[0] if rows else table.currentRow()
+
+    # ---------------------------------------------------------------- parts
+    def _part_edited(self, item: QTableWidgetItem) -> None:
+        row = item.row()
+        if row >= len(self.lib.parts):
+            return
+        old = self.lib.parts[row]
+        cells = [self.parts_table.item(row, j).text() if self.parts_table.item(row, j) else ""
+                 for j in range(len(PART_COLUMNS))]
+        try:
+            new = partslib.ClinicPart.checked(cells[0], cells[1], cells[2], cells[3], cells[4])
+            lib = self.lib.without_part(old.name)
+            lib = lib.with_part(new)
+        except InputError as err:
+            self.manager.warn("Not changed", str(err))
+            self._fill()
+            return
+        self._store(lib)
+
+    def new_part(self, name: str = "", volume: str = "") -> bool:
+        name = name or self.manager.ask_text("New clinic part", "Name of the part:")
+        if not name:
+            return False
+        volume = volume or self.manager.ask_text("New clinic part", f"Measured internal volume of '{name}' "
+                                                 "(e.g. 9.5 mL):")
+        if not volume:
+            return False
+        try:
+            lib = self.lib.with_part(partslib.ClinicPart.checked(name, volume))
+        except InputError as err:
+            self.manager.warn("Not added", str(err))
+            return False
+        return self._store(lib)
+
+    def remove_part(self) -> bool:
+        row = self._selected(self.parts_table)
+        if not 0 <= row < len(self.lib.parts):
+            return False
+        return self._store(self.lib.without_part(self.lib.parts[row].name))
+
+    def use_part(self) -> bool:
+        row = self._selected(self.parts_table)
+        req = self.manager.controller.request
+        if not 0 <= row < len(self.lib.parts) or req is None:
+            return False
+        part = self.lib.parts[row].as_apparatus()
+        circuit = dataclasses.replace(req.circuit, parts=(*req.circuit.parts, part))
+        self.manager.controller.set_request(dataclasses.replace(req, circuit=circuit))
+        return True
+
+    # ---------------------------------------------------------------- presets
+    def save_preset(self, name: str = "") -> bool:
+        req = self.manager.controller.request
+        if req is None:
+            return False
+        name = name or self.manager.ask_text("Save circuit preset", "Name for this circuit set-up:")
+        if not name:
+            return False
+        c = req.circuit
+        try:
+            preset = partslib.CircuitPreset.checked(name, list(c.parts), c.compressible_ml_cmh2o, c.circuit_type)
+            lib = self.lib.with_preset(preset)
+        except InputError as err:
+            self.manager.warn("Not saved", str(err))
+            return False
+        return self._store(lib)
+
+    def use_preset(self) -> bool:
+        row = self._selected(self.preset_table)
+        req = self.manager.controller.request
+        if not 0 <= row < len(self.lib.presets) or req is None:
+            return False
+        circuit = self.lib.presets[row].apply(req.circuit)
+        self.manager.controller.set_request(dataclasses.replace(req, circuit=circuit))
+        return True
+
+    def remove_preset(self) -> bool:
+        row = self._selected(self.preset_table)
+        if not 0 <= row < len(self.lib.presets):
+            return False
+        return self._store(self.lib.without_preset(self.lib.presets[row].name))
+
+    # ---------------------------------------------------------------- sharing
+    def export_file(self, path: str = "") -> bool:
+        path = path or self.manager.pick_save_path("Export clinic parts", str(Path.home() / "clinic-parts.json"),
+                                                   "JSON (*.json)")
+        if not path:
+            return False
+        try:
+            partslib.write_library_file(self.lib, path)
+        except VentsetError as exc:
+            self.manager.warn("Not exported", str(exc))
+            return False
+        return True
+
+    def import_file(self, path: str = "") -> partslib.MergeReport | None:
+        path = path or self.manager.pick_open_path("Import clinic parts", str(Path.home()), "JSON (*.json)")
+        if not path:
+            return None
+        try:
+            incoming = partslib.read_library_file(path)
+            merged, report = partslib.merge(self.lib, incoming, "keep")
+        except VentsetError as exc:
+            self.manager.warn("Not imported", str(exc))
+            return None
+        if report.conflicts and self.manager.confirm(
+                "Conflicting entries", "\n".join(report.lines()) + "\n\nImport the conflicting entries under new "
+                "names (\"… (imported)\") so that both are kept? No keeps only this machine's."):
+            merged, report = partslib.merge(self.lib, incoming, "rename")
+        if merged != self.lib and not self._store(merged):
+            return None
+        self.manager.inform("Import finished", "\n".join(report.lines()))
+        return report
+
+
+def install(window, *, offer_recovery: bool = True, autosave_folder: Path | None = None) -> CaseManager:
+    """Add case files, autosave, the clinic library and printing to ``window``; returns the manager."""
+    manager = CaseManager(window, autosave_folder=autosave_folder)
+    window.case_manager = manager
+    menu = window.menu("Case")
+    first = menu.actions()[0] if menu.actions() else None
+
+    def act(text: str, slot, shortcut=None, name: str = "") -> QAction:
+        a = QAction(text, window)
+        if shortcut is not None:
+            a.setShortcut(QKeySequence(shortcut))
+        a.triggered.connect(lambda _=False: slot())
+        if name:
+            a.setObjectName(name)
+        menu.insertAction(first, a)
+        return a
+
+    manager.act_open = act("Open case…", manager.open_dialog, QKeySequence.StandardKey.Open, "act-open")
+    recent = QMenu("Open recent", window)
+    recent.setObjectName("menu-recent")
+    menu.insertMenu(first, recent)
+    manager.recent_menu = recent
+
+    def fill_recent() -> None:
+        recent.clear()
+        paths = cases.recent_files()
+        for p in paths:
+            a = recent.addAction(str(p))
+            a.triggered.connect(lambda _=False, p=p: manager.open_recent(p))
+        if not paths:
+            recent.addAction("No recent cases").setEnabled(False)
+
+    recent.aboutToShow.connect(fill_recent)
+    manager.act_save = act("Save case", manager.save, QKeySequence.StandardKey.Save, "act-save")
+    manager.act_save_as = act("Save case as…", manager.save_as, QKeySequence("Ctrl+Shift+S"), "act-save-as")
+    menu.insertSeparator(first)
+    manager.act_print = act("Printed plan (preview, PDF, print)…", manager.preview, QKeySequence.StandardKey.Print,
+                            "act-print")
+    manager.act_pdf = act("Save printed plan as PDF…", manager.write_pdf, None, "act-pdf")
+    manager.act_summary = act("Copy summary for the clinical record", manager.copy_summary,
+                              QKeySequence("Ctrl+Alt+C"), "act-summary")
+    menu.insertSeparator(first)
+    manager.act_parts = act("Clinic parts library…", manager.parts_dialog, None, "act-parts")
+    menu.insertSeparator(first)
+    QTimer.singleShot(0, manager.attach_timeline_panel)  # the record panel may be installed after this one
+    if offer_recovery and os.environ.get("VENTSET_GUI_SMOKE") != "1":  # the start-up timing run must not wait
+        QTimer.singleShot(0, manager.offer_recovery)
+    manager._refresh_title()
+    return manager
