@@ -297,11 +297,21 @@ def no_tube_entered(x: Context) -> list[Caution]:
                "Enter its internal diameter and length.")]
 
 
+def custom_species(x: Context) -> list[Caution]:
+    name = x.plan.request.patient.custom_species.strip()
+    if not name:
+        return []
+    return [_c("caution", "CUSTOM_SPECIES",
+               f"{name} is not in the species library: every value not entered comes from {x.species.label} "
+               "(usual tidal volume and rate, pressure limit, compliance, dead space, metabolism). Enter what you "
+               "know about this species and titrate closely to capnography and chest movement.")]
+
+
 RULES: tuple[Callable[[Context], list[Caution]], ...] = (
     tidal_volume_below_dead_space, target_unreachable, plateau_above_limit, apparatus_share, short_expiration,
     driving_pressure, compressible_volume, outside_species_range, limit_moved_the_plan, oxygenation,
     body_temperature, metabolic_plausibility, peep_high, gradient_unreliable, small_patient_capnography,
-    short_inspiration_pressure_mode, mechanics_rough, no_tube_entered, species_notes,
+    short_inspiration_pressure_mode, mechanics_rough, no_tube_entered, custom_species, species_notes,
 )
 
 

@@ -36,6 +36,8 @@ class Patient:
     compliance_ml_cmh2o: float | None = None
     resistance_cmh2o_l_s: float | None = None
     name: str = ""
+    # A species not in the library, planned with the values of ``species`` (its base) unless entered.
+    custom_species: str = ""
 
 
 @dataclass(frozen=True)

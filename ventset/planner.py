@@ -194,6 +194,12 @@ def plan(request: Request, library: Library | None = None) -> Plan:
         check_range(p.mass_kg, sp.mass_kg.min, sp.mass_kg.max, "Body mass", "kg")
     except InputError as err:
         raise InputError(err.field, err.value, f"{err.reason} for {sp.label} ({sp.mass_kg.source})", "kg") from None
+    species_label = sp.label
+    custom = p.custom_species.strip()
+    if custom:
+        species_label = f"{custom} (values from {sp.label})"
+        used("Species values", sp.label, "", f"base species for '{custom}', which is not in the library: "
+             "its values are used for everything not entered")
     lean = p.lean_mass_kg if p.lean_mass_kg is not None else p.mass_kg
     if lean > p.mass_kg:
         raise InputError("Lean (ideal) mass", f"{fmt(lean)} kg",
@@ -394,7 +400,7 @@ def plan(request: Request, library: Library | None = None) -> Plan:
 
     used("Reservoir bag", lib.planning["reservoir_bag_vt_multiple"].value, "× set VT",
          lib.planning["reservoir_bag_vt_multiple"].source)
-    resolved = Resolved(sp.key, sp.label, p.mass_kg, lean, temp, mode, s.name, ie, f_alv, gradient,
+    resolved = Resolved(sp.key, species_label, p.mass_kg, lean, temp, mode, s.name, ie, f_alv, gradient,
                         sp.gradient_reliable, sp.mechanics_reliable)
     result = Plan(
         request=request,

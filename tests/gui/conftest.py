@@ -1,0 +1,51 @@
+"""Fixtures for the window tests: an isolated QSettings folder, a window at a typical size."""
+
+from __future__ import annotations
+
+import os
+
+import pytest
+
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+os.environ.setdefault("PYQTGRAPH_QT_LIB", "PySide6")
+
+
+@pytest.fixture(autouse=True)
+def isolated_settings(tmp_path, monkeypatch):
+    """Every test gets its own settings file; the user's real settings are never touched."""
+    folder = tmp_path / "settings"
+    folder.mkdir()
+    monkeypatch.setenv("VENTSET_SETTINGS_DIR", str(folder))
+    return folder
+
+
+@pytest.fixture
+def make_window(qtbot):
+    """Build a MainWindow (demo patient unless a request is given), shown at 1400 × 900."""
+
+    def make(request=None, size=(1400, 900)):
+        from ventset.gui.settings import open_settings
+        from ventset.gui.window import MainWindow
+
+        w = MainWindow(open_settings(), request=request)
+        qtbot.addWidget(w)
+        w.resize(*size)
+        w.show()
+        qtbot.waitExposed(w)
+        return w
+
+    return make
+
+
+@pytest.fixture
+def window(make_window):
+    return make_window()
+
+
+def settle(window) -> None:
+    """Let queued replans run and paint."""
+    from PySide6.QtWidgets import QApplication
+
+    window.controller.flush()
+    QApplication.processEvents()
+    window.controller.flush()

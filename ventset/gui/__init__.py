@@ -1,0 +1,11 @@
+"""The desktop window: a thin Qt view over the pure planning core.
+
+pyqtgraph must find PySide6 (not another binding), so the environment variable is set and
+PySide6 imported before any module here imports pyqtgraph.
+"""
+
+import os
+
+os.environ.setdefault("PYQTGRAPH_QT_LIB", "PySide6")
+
+import PySide6  # noqa: E402,F401  (imported first on purpose)

@@ -1,0 +1,225 @@
+"""The form's state as plain data, and its translation to and from a Request. No widgets here.
+
+The state is a flat dict so that one undo command can restore any part of it:
+
+* ``text:<field>`` what is typed in the field, ``unit:<field>`` the unit chosen beside it,
+  ``exact:<field>`` an exact value behind a rounded text (after a unit switch or a loaded case), so
+  switching kg → lb → kg or loading a case changes no underlying number;
+* ``choice:target`` / ``choice:timing`` which member of an either-or pair is used;
+* ``species``, ``custom_species``, ``name``, ``mode``, ``circuit``, ``strategy``, ``parts``
+  (a tuple of (name, volume text, source)).
+
+Fields come from ventset.fields.FIELDS; nothing about a field is declared here a second time.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import re
+
+from ventset.errors import InputError
+from ventset.fields import FIELDS, get_path, parse_field
+from ventset.library import Library
+from ventset.model import Patient, Request, request_from_dict
+from ventset.units import convert, fmt, parse_quantity
+
+TEXT, UNIT, EXACT, CHOICE = "text:", "unit:", "exact:", "choice:"
+
+# Either-or pairs: only the chosen member is sent to the planner (it rejects both at once).
+PAIRS: dict[str, tuple[str, str]] = {"target": ("target-paco2", "target-etco2"), "timing": ("ie", "ti")}
+GAS_FIELDS = tuple(k for k, s in FIELDS.items() if s.unit == "mmHg")
+
+_SHOWN = {"degC": "°C", "degF": "°F", "1/min": "/min", "cmH2O*s/L": "cmH2O/(L/s)", "percent": "%"}
+_PLAIN_NUMBER = re.compile(r"^\s*[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?\s*$")
+
+
+def shown_unit(unit: str, key: str = "") -> str:
+    """How a unit name is written on screen."""
+    if key == "fio2" and unit == "":
+        return "fraction"
+    return _SHOWN.get(unit, unit)
+
+
+def pair_of(key: str) -> str | None:
+    for name, members in PAIRS.items():
+        if key in members:
+            return name
+    return None
+
+
+def is_active(state: dict, key: str) -> bool:
+    """False for the member of an either-or pair that is not chosen."""
+    pair = pair_of(key)
+    return pair is None or state.get(CHOICE + pair, PAIRS[pair][0]) == key
+
+
+def to_unit(value: float, key: str, unit: str) -> float:
+    """An internal value of field ``key`` expressed in ``unit``."""
+    spec = FIELDS[key]
+    if unit == spec.unit:
+        return value
+    if key == "fio2" and unit == "percent":
+        return value * 100.0
+    return convert(value, spec.unit, unit)
+
+
+def edit_text(value: float) -> str:
+    """A number as it is put into an entry field (4 significant figures, no trailing zeros)."""
+    return fmt(value, 4)
+
+
+def parse_text(key: str, text: str, unit: str) -> float:
+    """Parse what is typed in field ``key``: a bare number is read in the unit chosen beside it."""
+    t = text.strip()
+    if unit and _PLAIN_NUMBER.match(t):
+        t = f"{t} {unit}"
+    return parse_field(key, t)
+
+
+def field_value(state: dict, key: str) -> float | None:
+    """The internal value of a field, None when empty; raises InputError for bad input."""
+    text = state.get(TEXT + key, "")
+    if not text.strip():
+        return None
+    unit = state.get(UNIT + key, FIELDS[key].units[0])
+    exact = state.get(EXACT + key)
+    if exact is not None and exact[0] == text and exact[1] == unit:
+        return exact[2]
+    return parse_text(key, text, unit)
+
+
+def convert_field(state: dict, key: str, new_unit: str) -> dict:
+    """State changes that show field ``key`` in ``new_unit`` without changing its value."""
+    changes: dict = {UNIT + key: new_unit}
+    try:
+        value = field_value(state, key)
+    except InputError:
+        return changes  # keep the text as typed; it is marked invalid anyway
+    if value is None:
+        changes[EXACT + key] = None
+        return changes
+    text = edit_text(to_unit(value, key, new_unit))
+    changes[TEXT + key] = text
+    changes[EXACT + key] = (text, new_unit, value)
+    return changes
+
+
+def blank_state(units: dict[str, str] | None = None) -> dict:
+    """Every key present, every field empty, units from ``units`` (else the first choice)."""
+    units = units or {}
+    state: dict = {"species": "", "custom_species": "", "name": "", "mode": "", "circuit": "",
+                   "strategy": "volume_first", "parts": ()}
+    for key, spec in FIELDS.items():
+        state[TEXT + key] = ""
+        state[UNIT + key] = units.get(key, spec.units[0])
+        state[EXACT + key] = None
+    for name, members in PAIRS.items():
+        state[CHOICE + name] = members[0]
+    return state
+
+
+def state_from_request(request: Request, units: dict[str, str], library: Library) -> dict:
+    """The form state that shows ``request`` in the user's units (exact values kept)."""
+    state = blank_state(units)
+    p, c, s = request.patient, request.circuit, request.strategy
+    sp = library.find_species(p.species)
+    state.update(species=sp.key if sp else p.species, name=p.name, mode=c.mode or "",
+                 circuit=c.circuit_type or "", strategy=s.name,
+                 custom_species=getattr(p, "custom_species", "") or "",
+                 parts=tuple((x.name, edit_text(x.volume_ml), x.source, x.volume_ml) for x in c.parts))
+    defaults = _dataclass_defaults()
+    for key, spec in FIELDS.items():
+        try:
+            value = get_path(request, spec.path)
+        except AttributeError:
+            continue
+        if value is None or (spec.path in defaults and value == defaults[spec.path]):
+            continue
+        unit = state[UNIT + key]
+        text = edit_text(to_unit(float(value), key, unit))
+        state[TEXT + key] = text
+        state[EXACT + key] = (text, unit, float(value))
+    for name, (first, second) in PAIRS.items():
+        if state[TEXT + second] and not state[TEXT + first]:
+            state[CHOICE + name] = second
+    return state
+
+
+def _dataclass_defaults() -> dict[str, object]:
+    """Non-None dataclass defaults by path (altitude 0 m, sampling 0 mL/min): shown as empty fields."""
+    from ventset.model import Circuit, Strategy, Targets
+
+    out = {}
+    for section, cls in (("patient", Patient), ("circuit", Circuit), ("targets", Targets), ("strategy", Strategy)):
+        for f in dataclasses.fields(cls):
+            if f.default is not dataclasses.MISSING and f.default is not None and isinstance(f.default, float):
+                out[f"{section}.{f.name}"] = f.default
+    return out
+
+
+def part_volume(part: tuple) -> float:
+    """Volume (mL) of a parts entry (name, text, source[, exact])."""
+    name, text = part[0], part[1]
+    if len(part) > 3 and part[3] is not None and edit_text(part[3]) == text:
+        return float(part[3])
+    value = parse_quantity(text, "mL", f"Apparatus '{name}'")
+    if value < 0:
+        raise InputError(f"Apparatus '{name}'", text, "volume must be 0 mL or more")
+    return value
+
+
+def request_from_state(state: dict, library: Library) -> tuple[Request | None, list[InputError]]:
+    """Build the Request the form describes, or return every input error found (field by field)."""
+    errors: list[InputError] = []
+    data: dict[str, dict] = {"patient": {}, "circuit": {}, "targets": {}, "strategy": {}}
+    sp = library.find_species(state.get("species", "")) if state.get("species", "").strip() else None
+    if sp is None:
+        errors.append(InputError("species", state.get("species", ""),
+                                 "is not in the library; type part of a name and pick from the list"))
+    data["patient"].update(species=sp.key if sp else "", name=state.get("name", ""))
+    if state.get("custom_species", "").strip() and "custom_species" in {f.name for f in dataclasses.fields(Patient)}:
+        data["patient"]["custom_species"] = state["custom_species"].strip()
+    for key, spec in FIELDS.items():
+        if not is_active(state, key):
+            continue
+        try:
+            value = field_value(state, key)
+        except InputError as err:
+            errors.append(err)
+            continue
+        if value is None:
+            if key == "mass":
+                errors.append(InputError(spec.label, "", "is needed; enter the weighed body mass"))
+            continue
+        section, attr = spec.path.split(".", 1)
+        data[section][attr] = value
+    parts = []
+    for part in state.get("parts", ()):
+        try:
+            parts.append({"name": part[0], "volume_ml": part_volume(part), "source": part[2]})
+        except InputError as err:
+            errors.append(err)
+    data["circuit"].update(parts=parts, mode=state.get("mode") or None, circuit_type=state.get("circuit") or None)
+    data["strategy"]["name"] = state.get("strategy") or "volume_first"
+    if errors:
+        return None, errors
+    return request_from_dict(data), []
+
+
+_BY_LABEL = {spec.label: key for key, spec in FIELDS.items()}
+_EXTRA = {"Target EtCO2 + gradient": "target-etco2", "species": "species", "mode": "mode", "circuit": "circuit",
+          "strategy": "strategy", "--species": "species"}
+
+
+def error_key(err: InputError) -> str | None:
+    """Which form element an InputError belongs to (a FIELDS key, 'species', 'parts', ...), if any."""
+    f = str(err.field)
+    if f in _BY_LABEL:
+        return _BY_LABEL[f]
+    if f in _EXTRA:
+        return _EXTRA[f]
+    if f.startswith("--") and f[2:] in FIELDS:
+        return f[2:]
+    if f.startswith("Apparatus") or f.startswith("--apparatus"):
+        return "parts"
+    return None

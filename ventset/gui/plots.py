@@ -1,0 +1,671 @@
+"""The four live plots. Every item is created once; each plan only calls setData/setPos/setText,
+and the axis ranges are set here from the plan (never auto-ranged). Arrays come from ventset.views."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtCore import QRectF, Qt, Signal
+from PySide6.QtGui import QBrush, QColor, QPen
+from PySide6.QtWidgets import (
+    QFrame,
+    QGraphicsItem,
+    QGraphicsRectItem,
+    QHBoxLayout,
+    QLabel,
+    QSizePolicy,
+    QToolButton,
+    QVBoxLayout,
+    QWidget,
+)
+
+from ventset import views
+from ventset.gui.text import Text
+from ventset.gui.theme import DAY, Theme, scaled_font
+from ventset.model import Plan
+from ventset.units import fmt, mmhg_to_kpa
+
+pg.setConfigOptions(antialias=True, background=DAY.plot_bg, foreground=DAY.plot_fg)
+MAP_CELLS = 120  # cells per side of the drawn map; finer than the pixels it covers at normal sizes
+
+
+def _gas(mmhg: float | np.ndarray, unit: str):
+    return mmhg_to_kpa(mmhg) if unit == "kPa" else mmhg
+
+
+def _gas_fmt(mmhg: float, unit: str) -> str:
+    if not math.isfinite(mmhg):
+        return "—"
+    return f"{fmt(_gas(mmhg, unit), 3)} {unit}"
+
+
+def _pen(colour: str, width: float = 2.0, style: Qt.PenStyle = Qt.PenStyle.SolidLine) -> QPen:
+    pen = QPen(QColor(colour))
+    pen.setWidthF(width)
+    pen.setCosmetic(True)
+    pen.setStyle(style)
+    return pen
+
+
+class PlotCard(QFrame):
+    """A titled frame around one plot, with a caption that says in words what the plot shows."""
+
+    enlarge = Signal(object)  # this card; the window shows it alone (or all four again)
+
+    def __init__(self, title: str, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("plot-card")
+        self.setFrameShape(QFrame.Shape.StyledPanel)
+        lay = QVBoxLayout(self)
+        m = self.fontMetrics().height() // 4
+        lay.setContentsMargins(m, m, m, m)
+        lay.setSpacing(m)
+        self._title = title
+        self.title = QLabel(title, self)
+        self.title.setFont(scaled_font(self.font(), 1.05, bold=True))
+        self.title.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.caption = Text("", self, wrap=True, name="plot-caption", lines=3)
+        self.caption.setFont(scaled_font(self.font(), 0.9))
+        head = QHBoxLayout()
+        head.setContentsMargins(0, 0, 0, 0)
+        head.addWidget(self.title, 1)
+        self.zoom = QToolButton(self)
+        self.zoom.setText("Enlarge")
+        self.zoom.setCheckable(True)
+        self.zoom.setAutoRaise(True)
+        self.zoom.setToolTip("Show this plot alone, larger (click again for all four)")
+        self.zoom.setAccessibleName(f"Enlarge {title}")
+        self.zoom.toggled.connect(self._zoom)
+        head.addWidget(self.zoom)
+        lay.addLayout(head)
+        self.body = lay
+        self.theme = DAY
+        self.stale = False
+
+    def _zoom(self, on: bool) -> None:
+        self.zoom.setText("All plots" if on else "Enlarge")
+        self.enlarge.emit(self if on else None)
+
+    def add_plot(self, widget: QWidget) -> None:
+        self.body.addWidget(widget, 1)
+        self.body.addWidget(self.caption)
+
+    def set_stale(self, stale: bool) -> None:
+        if stale != self.stale:
+            self.stale = stale
+            self.title.setText(f"{self._title} — ⚠ stale (last valid plan)" if stale else self._title)
+
+    def set_caption(self, text: str) -> None:
+        if self.caption.text() != text:
+            self.caption.setText(text)
+
+    def style_plot(self, plot: pg.PlotItem, theme: Theme) -> None:
+        for name in ("left", "bottom"):
+            ax = plot.getAxis(name)
+            ax.setPen(_pen(theme.plot_fg, 1))
+            ax.setTextPen(QColor(theme.plot_fg))
+            ax.setStyle(tickFont=self.font())
+            ax.label.setFont(self.font())
+            # Axes change only when their range does: keep them as a pixmap instead of redrawing the text.
+            ax.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+
+
+def _new_plot_widget(parent: QWidget) -> pg.PlotWidget:
+    w = pg.PlotWidget(parent)
+    w.setMenuEnabled(False)
+    w.setMouseEnabled(x=False, y=False)
+    w.hideButtons()
+    w.getPlotItem().vb.disableAutoRange()
+    w.setMinimumHeight(w.fontMetrics().height() * 6)
+    w.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+    return w
+
+
+def _set_range(vb: pg.ViewBox, xr: tuple[float, float], yr: tuple[float, float], cache: dict) -> None:
+    key = (xr, yr)
+    if cache.get("range") != key:
+        cache["range"] = key
+        vb.setRange(xRange=xr, yRange=yr, padding=0, update=True, disableAutoRange=True)
+
+
+def _set_text(item: pg.TextItem, text: str, html: bool = False) -> None:
+    """Change a plot label only when its text changes (a new text re-lays it out)."""
+    if getattr(item, "_shown", None) != text:
+        item._shown = text
+        if html:
+            item.setHtml(text)
+        else:
+            item.setText(text)
+
+
+def _text_item(colour: str, anchor=(0, 0)) -> pg.TextItem:
+    t = pg.TextItem("", color=QColor(colour), anchor=anchor)
+    return t
+
+
+# ---------------------------------------------------------------------------------------------
+
+
+class BreathPlot(PlotCard):
+    """One set breath laid out in the order the gas travels, one row per stretch: the circuit, each
+    apparatus part, the tube, the airway, alveolar dead space and the volume that exchanges gas."""
+
+    POOL = 14
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__("Where one breath goes", parent)
+        self.setObjectName("plot-breath")
+        self.widget = _new_plot_widget(self)
+        self.plot = self.widget.getPlotItem()
+        self.plot.setLabel("bottom", "mL along the set breath")
+        self.rects: list[QGraphicsRectItem] = []
+        self.labels: list[pg.TextItem] = []
+        for _ in range(self.POOL):
+            r = QGraphicsRectItem()
+            r.setVisible(False)
+            self.plot.addItem(r)
+            self.rects.append(r)
+            t = _text_item(DAY.plot_fg, anchor=(0, 0.5))
+            t.setVisible(False)
+            self.plot.addItem(t)
+            self.labels.append(t)
+        self.end_line = pg.InfiniteLine(angle=90, movable=False)
+        self.plot.addItem(self.end_line)
+        self.add_plot(self.widget)
+        self.cache: dict = {}
+        self._ticks: list = []
+        self.plot.vb.sigResized.connect(self._resized)
+        self.data: views.BreathComposition | None = None
+        self.set_theme(DAY)
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.widget.setBackground(theme.plot_bg)
+        self.style_plot(self.plot, theme)
+        self.end_line.setPen(_pen(theme.plot_fg, 2, Qt.PenStyle.DashLine))
+        for t in self.labels:
+            t.setColor(QColor(theme.plot_fg))
+        if self.data is not None:
+            self._draw(self.data)
+
+    def show_plan(self, plan: Plan) -> None:
+        self.data = views.breath_composition(plan)
+        self._draw(self.data)
+        b = self.data
+        tot = b.total_by_category()
+        patient = b.patient_end_ml - b.patient_start_ml
+        share = b.exchange_ml / patient * 100 if patient > 0 else 0.0
+        app = tot["apparatus"]
+        lead = (f"Apparatus {fmt(app)} mL = {fmt(app / patient * 100, 2)} % of each breath. " if app > 0 and
+                patient > 0 else "")
+        if b.exchange_ml > 0:
+            self.set_caption(f"{lead}{fmt(b.exchange_ml)} mL ({fmt(share, 2)} % of what reaches the patient) "
+                             "exchanges gas. Dashed line: end of the breath.")
+        else:
+            self.set_caption(f"{lead}NOTHING exchanges gas: the dead space (bars past the dashed end of the "
+                             "breath) is larger than the breath.")
+
+    def _draw(self, b: views.BreathComposition) -> None:
+        t = self.theme
+        segs = b.segments[: self.POOL]
+        n = max(1, len(segs))
+        x_hi = views.nice_ceiling(max(b.set_ml, b.patient_start_ml + b.dead_space_ml) * 1.12)
+        ticks = []
+        ppm = max(1.0, self.plot.vb.width()) / x_hi  # pixels per mL
+        fm = self.fontMetrics()
+        for i, r in enumerate(self.rects):
+            lab = self.labels[i]
+            if i >= len(segs):
+                r.setVisible(False)
+                lab.setVisible(False)
+                continue
+            s = segs[i]
+            y = n - 1 - i
+            r.setRect(QRectF(s.start_ml, y - 0.34, max(s.volume_ml, 1e-9), 0.68))
+            r.setBrush(QBrush(QColor(t.breath.get(s.category, t.muted))))
+            r.setPen(_pen(t.plot_fg, 0.8))
+            r.setVisible(True)
+            text = f"{fmt(s.volume_ml)} mL"
+            _set_text(lab, text)
+            need = fm.horizontalAdvance(text) + fm.averageCharWidth()
+            colour = t.plot_fg
+            if (x_hi - s.end_ml) * ppm >= need:
+                lab.setAnchor((0, 0.5))  # after the bar
+                lab.setPos(s.end_ml, y)
+            elif s.start_ml * ppm >= need:
+                lab.setAnchor((1, 0.5))  # before the bar, in the room the waterfall leaves
+                lab.setPos(s.start_ml, y)
+            elif s.volume_ml * ppm >= need:
+                lab.setAnchor((0.5, 0.5))  # inside a wide bar
+                lab.setPos((s.start_ml + s.end_ml) / 2, y)
+                colour = t.plot_bg
+            else:
+                lab.setAnchor((0, 0.5))
+                lab.setPos(s.end_ml, y)
+            if getattr(lab, "_colour", None) != colour:
+                lab._colour = colour
+                lab.setColor(QColor(colour))
+            lab.setVisible(True)
+            ticks.append((y, _short(s.label)))
+        if ticks != self._ticks:
+            self._ticks = ticks
+            ax = self.plot.getAxis("left")
+            ax.setTicks([ticks, []])
+            # Room for every row's name at the current font size (the layout takes it from the map below).
+            self.widget.setMinimumHeight((len(ticks) + 3) * fm.lineSpacing())
+            ax.setWidth(max(fm.horizontalAdvance(x) for _, x in ticks) + fm.height() if ticks else fm.height())
+        self.end_line.setPos(b.patient_end_ml)
+        _set_range(self.plot.vb, (0.0, x_hi), (-0.6, n + 0.4), self.cache)
+
+    def _resized(self) -> None:  # labels choose their side from the pixel width
+        if self.data is not None:
+            self._draw(self.data)
+
+    def curve_data(self) -> list[tuple[float, float]]:
+        return [(r.rect().left(), r.rect().right()) for r in self.rects if r.isVisible()]
+
+
+_SHORT = (("Heat and moisture exchanging filter (HMEF)", "HMEF"), ("Heat and moisture exchanger (HME)", "HME"),
+          ("Mainstream CO2 airway adapter", "CO2 adapter"), ("Endotracheal tube connector", "Connector"),
+          ("Sidestream sampling adapter", "Sampling adapter"), ("Flexible corrugated extension (catheter mount)",
+                                                                "Catheter mount"),
+          ("Right-angle elbow connector", "Elbow"), ("Tube beyond the incisors", "Tube"),
+          ("Circuit compression", "Circuit (compression)"), ("Airway (intubated)", "Airway"),
+          ("Unperfused alveoli", "Alveolar dead space"))
+
+
+def _short(name: str) -> str:
+    """A part name short enough for an axis label."""
+    n = name
+    for long, short in _SHORT:
+        n = n.replace(long, short)
+    n = " ".join(n.split()).strip(" ,")
+    return n if len(n) <= 24 else n[:23] + "…"
+
+
+# ---------------------------------------------------------------------------------------------
+
+
+class SettingsMapPlot(PlotCard):
+    """Tidal volume × rate with lines of equal predicted PaCO2, the target band, the pressure limit,
+    the species' usual range and the recommended point. Click anywhere to read that alternative."""
+
+    probed = Signal(object)  # views.PointSummary
+    N_LINES = 9
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__("Settings map: tidal volume × rate", parent)
+        self.setObjectName("plot-map")
+        self.widget = _new_plot_widget(self)
+        self.plot = self.widget.getPlotItem()
+        self.plot.setLabel("bottom", "Tidal volume at the patient (mL)")
+        self.plot.setLabel("left", "Rate (/min)")
+        self.image = pg.ImageItem(axisOrder="row-major")
+        self.plot.addItem(self.image)
+        # All lines of equal PaCO2 but the target in one item (NaN between them), the target in another.
+        self.iso_other = pg.PlotCurveItem(connect="finite")
+        self.iso_target = pg.PlotCurveItem(connect="finite")
+        self.iso = [self.iso_other, self.iso_target]
+        for c in self.iso:
+            self.plot.addItem(c)
+        self.iso_labels: list[pg.TextItem] = []
+        for _ in range(self.N_LINES):
+            t = _text_item(DAY.plot_fg, anchor=(1, 1))
+            self.plot.addItem(t)
+            self.iso_labels.append(t)
+        self.box = pg.PlotCurveItem()
+        self.plot.addItem(self.box)
+        self.box_label = _text_item(DAY.plot_fg, anchor=(0, 1))
+        self.plot.addItem(self.box_label)
+        self.peak_curve = pg.PlotCurveItem(connect="finite")
+        self.plot.addItem(self.peak_curve)
+        self.peak_label = pg.TextItem("", anchor=(0, 0), angle=90)
+        self.plot.addItem(self.peak_label)
+        self.plateau_line = pg.InfiniteLine(angle=90, movable=False)
+        self.plot.addItem(self.plateau_line)
+        self.plateau_label = pg.TextItem("", anchor=(0, 0), angle=90)
+        self.plot.addItem(self.plateau_label)
+        self.dead_line = pg.InfiniteLine(angle=90, movable=False)
+        self.plot.addItem(self.dead_line)
+        self.dead_label = pg.TextItem("", anchor=(1, 0))
+        self.plot.addItem(self.dead_label)
+        self.trap_line = pg.InfiniteLine(angle=0, movable=False)
+        self.plot.addItem(self.trap_line)
+        self.trap_label = _text_item(DAY.plot_fg, anchor=(0, 1))
+        self.plot.addItem(self.trap_label)
+        self.point = pg.ScatterPlotItem(size=self.fontMetrics().height() * 1.1, symbol="o")
+        self.plot.addItem(self.point)
+        self.probe = pg.ScatterPlotItem(size=self.fontMetrics().height() * 1.1, symbol="+")
+        self.plot.addItem(self.probe)
+        self.readout = Text("", self, wrap=True, name="map-readout", lines=2)
+        self.add_plot(self.widget)
+        self.body.addWidget(self.readout)
+        self.widget.scene().sigMouseClicked.connect(self._clicked)
+        self.plot.vb.sigResized.connect(lambda *_: self._fit_dead_label())
+        self.cache: dict = {}
+        self.plan: Plan | None = None
+        self.gas_unit = "mmHg"
+        self.map: views.SettingsMap | None = None
+        self.probe_at: tuple[float, float] | None = None
+        self.lut = np.zeros((2 * views.N_ZONES, 4), dtype=np.uint8)
+        self.set_theme(DAY)
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.widget.setBackground(theme.plot_bg)
+        self.style_plot(self.plot, theme)
+        band = QColor(theme.band)
+        for z, col in enumerate(theme.zones):
+            c = QColor(col)
+            self.lut[z] = (c.red(), c.green(), c.blue(), 255)
+            mix = QColor(int(c.red() * 0.45 + band.red() * 0.55), int(c.green() * 0.45 + band.green() * 0.55),
+                         int(c.blue() * 0.45 + band.blue() * 0.55))
+            self.lut[views.N_ZONES + z] = (mix.red(), mix.green(), mix.blue(), 255)
+        self.dead_line.setPen(_pen(theme.danger, 1.5, Qt.PenStyle.DotLine))
+        for t in (*self.iso_labels, self.box_label, self.peak_label, self.plateau_label, self.trap_label,
+                  self.dead_label):
+            t.setColor(QColor(theme.plot_fg))
+        self.box.setPen(_pen(theme.plot_fg, 1.5, Qt.PenStyle.DashLine))
+        self.iso_other.setPen(_pen(theme.muted, 1.2, Qt.PenStyle.DotLine))
+        self.iso_target.setPen(_pen(theme.target, 3.0))
+        self.peak_curve.setPen(_pen(theme.caution if theme.key != "day" else "#b25d00", 2.5))
+        self.plateau_line.setPen(_pen(theme.danger, 2.5))
+        self.trap_line.setPen(_pen(theme.caution if theme.key != "day" else "#8a6a00", 2, Qt.PenStyle.DashDotLine))
+        self.point.setBrush(QBrush(QColor(theme.point)))
+        self.point.setPen(_pen(theme.plot_bg, 2))
+        self.probe.setPen(_pen(theme.plot_fg, 3))
+        self.probe.setBrush(QBrush(QColor(theme.plot_fg)))
+        if self.plan is not None:
+            self.show_plan(self.plan, self.gas_unit)
+
+    def show_plan(self, plan: Plan, gas_unit: str) -> None:
+        self.plan, self.gas_unit = plan, gas_unit
+        ranges = views.map_ranges(plan)
+        (v0, v1), (r0, r1) = ranges
+        m = views.settings_map(plan, MAP_CELLS, MAP_CELLS, ranges=ranges)
+        self.map = m
+        self.image.setImage(self.lut[m.cell], autoLevels=False)
+        self.image.setRect(QRectF(v0, r0, v1 - v0, r1 - r0))
+        lines = views.isolines(plan, gas_unit, ranges=ranges)
+        gap = np.array([np.nan])
+        others = [x for x in lines if not x.is_target]
+        if others:
+            self.iso_other.setData(np.concatenate([a for x in others for a in (x.vt_ml, gap)]),
+                                   np.concatenate([a for x in others for a in (x.rate_per_min, gap)]))
+        target = next((x for x in lines if x.is_target), None)
+        if target is not None:
+            self.iso_target.setData(target.vt_ml, target.rate_per_min)
+        for i, lab in enumerate(self.iso_labels):
+            line = lines[i] if i < len(lines) else None
+            if line is None or line.label_at is None:
+                lab.setVisible(False)
+                continue
+            num = fmt(_gas(line.level_mmhg, gas_unit), 3)
+            _set_text(lab, f"<b>{num} target</b>" if line.is_target else num, html=line.is_target)
+            left = line.label_at[0] < v0 + 0.3 * (v1 - v0)  # near the left axis: write to the right
+            lab.setAnchor((0, 1) if left else (1, 1))
+            lab.setPos(*line.label_at)
+            lab.setVisible(True)
+        lim = plan.limits
+        self.box.setData([lim.vt_min_ml, lim.vt_max_ml, lim.vt_max_ml, lim.vt_min_ml, lim.vt_min_ml],
+                         [lim.rate_min_per_min, lim.rate_min_per_min, lim.rate_max_per_min, lim.rate_max_per_min,
+                          lim.rate_min_per_min])
+        _set_text(self.box_label, "usual range")
+        self.box_label.setPos(lim.vt_min_ml, lim.rate_max_per_min)
+        rates = np.linspace(max(r0, 0.25), r1, 120)
+        pv = views.pressure_boundary_vt(plan, rates)
+        pv[(pv > v1) | (pv < v0)] = np.nan
+        self.peak_curve.setData(pv, rates)
+        finite = np.nonzero(np.isfinite(pv))[0]
+        peak_name = "inspiratory pressure" if plan.resolved.mode == "pressure" else "peak"
+        if finite.size:
+            j = finite[0]
+            _set_text(self.peak_label, f"{peak_name} > limit")
+            self.peak_label.setPos(pv[j], r0 + 0.03 * (r1 - r0))
+            self.peak_label.setVisible(True)
+        else:
+            self.peak_label.setVisible(False)
+        vt_plat = lim.vt_pressure_max_ml
+        self.plateau_line.setPos(vt_plat)
+        self.plateau_line.setVisible(v0 < vt_plat < v1)
+        _set_text(self.plateau_label, "plateau > limit")
+        self.plateau_label.setPos(vt_plat, r0 + 0.03 * (r1 - r0))
+        self.plateau_label.setVisible(v0 < vt_plat < v1)
+        vd = views.all_dead_space_vt_ml(plan)
+        self.dead_line.setPos(vd)
+        self.dead_line.setVisible(v0 < vd < v1)
+        _set_text(self.dead_label, "no gas exchange")
+        self.dead_label.setPos(vd, r0 + 0.5 * (r1 - r0))
+        self._dead_at = (vd, v0, v1)
+        self._fit_dead_label()
+        self.dead_label.setVisible(v0 < vd < v1)
+        trap = views.trapping_rate_per_min(plan, rate_hi=r1)
+        self.trap_line.setPos(trap if math.isfinite(trap) else r1 * 2)
+        self.trap_line.setVisible(math.isfinite(trap) and r0 < trap < r1)
+        _set_text(self.trap_label, "↑ expiration under 3 τ")
+        self.trap_label.setPos(v0 + (v1 - v0) * 0.02, trap if math.isfinite(trap) else r1 * 2)
+        self.trap_label.setVisible(math.isfinite(trap) and r0 < trap < r1)
+        v = plan.ventilation
+        self.point.setData([v.tidal_volume_ml], [v.rate_per_min])
+        _set_range(self.plot.vb, (v0, v1), (r0, r1), self.cache)
+        lo, hi = m.band_mmhg
+        self.set_caption(
+            f"Lines: PaCO2 in {gas_unit}, bold = target; green band {fmt(_gas(lo, gas_unit), 3)}–"
+            f"{fmt(_gas(hi, gas_unit), 3)}. Shaded: grey outside the dashed usual range, yellow expiration "
+            f"< 3 τ, orange {peak_name} > limit, red plateau > limit, dark: all dead space. ● plan.")
+        if self.probe_at is not None:
+            self._show_probe(*self.probe_at)
+        else:
+            self.probe.setData([], [])
+            self.readout.setText("Click any point to read its PaCO2 and pressures.")
+
+    def _fit_dead_label(self) -> None:
+        """Show the 'no gas exchange' label only where the dark zone is wide enough to hold it."""
+        vd, v0, v1 = getattr(self, "_dead_at", (0.0, 0.0, 1.0))
+        px = (vd - v0) / (v1 - v0) * self.plot.vb.width()
+        self.dead_label.setVisible(px > self.fontMetrics().horizontalAdvance("no gas exchange") + 6)
+
+    def _clicked(self, ev) -> None:
+        if self.plan is None or ev.button() != Qt.MouseButton.LeftButton:
+            return
+        pos = ev.scenePos()
+        if not self.plot.vb.sceneBoundingRect().contains(pos):
+            return
+        pt = self.plot.vb.mapSceneToView(pos)
+        self.probe_point(pt.x(), pt.y())
+
+    def probe_point(self, vt_ml: float, rate: float) -> views.PointSummary | None:
+        if self.plan is None or vt_ml <= 0 or rate <= 0:
+            return None
+        self.probe_at = (vt_ml, rate)
+        return self._show_probe(vt_ml, rate)
+
+    def _show_probe(self, vt_ml: float, rate: float) -> views.PointSummary:
+        s = views.point_summary(self.plan, vt_ml, rate)
+        self.probe.setData([vt_ml], [rate])
+        u = self.gas_unit
+        if math.isfinite(s.paco2_mmhg):
+            gas_txt = f"PaCO2 ≈ {_gas_fmt(s.paco2_mmhg, u)} (EtCO2 ≈ {_gas_fmt(s.etco2_mmhg, u)})"
+        else:
+            gas_txt = "NO alveolar ventilation (breath smaller than the dead space)"
+        zone = "" if s.zone == views.ZONE_USUAL else f" — {views.ZONE_LABELS[s.zone]}"
+        self.readout.setText(
+            f"+ {fmt(s.vt_ml)} mL ({fmt(s.vt_ml_kg)} mL/kg) × {fmt(s.rate_per_min)}/min: {gas_txt}; plateau "
+            f"{fmt(s.plateau_cmh2o)}, {s.top_name} {fmt(s.top_cmh2o)} cmH2O; expiration {fmt(s.te_tau, 2)} τ"
+            f"{zone}.")
+        self.probed.emit(s)
+        return s
+
+
+# ---------------------------------------------------------------------------------------------
+
+
+class WaveformPlot(PlotCard):
+    """Airway pressure, flow and volume over three breaths at the recommended settings."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__("Airway pressure, flow and volume (3 breaths)", parent)
+        self.setObjectName("plot-waves")
+        self.widget = pg.GraphicsLayoutWidget(self)
+        self.widget.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+        self.widget.setMinimumHeight(self.fontMetrics().height() * 12)
+        self.plots: list[pg.PlotItem] = []
+        for i, unit in enumerate(("cmH2O", "L/min", "mL")):
+            p = self.widget.addPlot(row=i, col=0)
+            p.setMenuEnabled(False)
+            p.setMouseEnabled(x=False, y=False)
+            p.hideButtons()
+            p.vb.disableAutoRange()
+            p.setLabel("left", unit)
+            if i < 2:
+                p.getAxis("bottom").setStyle(showValues=False)
+            self.plots.append(p)
+        self.plots[-1].setLabel("bottom", "Time (s)")
+        fm = self.fontMetrics()
+        for p in self.plots:  # equal axis widths keep the three time axes aligned
+            p.getAxis("left").setWidth(fm.height() * 2 + fm.horizontalAdvance("00 limit"))
+        self.curves = [pg.PlotCurveItem() for _ in self.plots]
+        for p, c in zip(self.plots, self.curves, strict=True):
+            p.addItem(c)
+        self.limit_line = pg.InfiniteLine(angle=0, movable=False)
+        self.peep_line = pg.InfiniteLine(angle=0, movable=False)
+        self.plots[0].addItem(self.limit_line)
+        self.plots[0].addItem(self.peep_line)
+        self.zero_flow = pg.InfiniteLine(pos=0, angle=0, movable=False)
+        self.plots[1].addItem(self.zero_flow)
+        self.left_line = pg.InfiniteLine(angle=0, movable=False)
+        self.plots[2].addItem(self.left_line)
+        self.add_plot(self.widget)
+        self.caches = [{}, {}, {}]
+        self.data: views.Waveforms | None = None
+        self.set_theme(DAY)
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.widget.setBackground(theme.plot_bg)
+        for p in self.plots:
+            self.style_plot(p, theme)
+        w = theme.line_width
+        for c, col in zip(self.curves, (theme.pressure, theme.flow, theme.volume), strict=True):
+            c.setPen(_pen(col, w))
+        self.limit_line.setPen(_pen(theme.danger, 1.5, Qt.PenStyle.DashLine))
+        self.peep_line.setPen(_pen(theme.muted, 1, Qt.PenStyle.DotLine))
+        self.zero_flow.setPen(_pen(theme.muted, 1))
+        self.left_line.setPen(_pen(theme.caution, 1.5, Qt.PenStyle.DashLine))
+
+    def show_plan(self, plan: Plan) -> None:
+        w = views.waveforms(plan)
+        self.data = w
+        for c, y in zip(self.curves, (w.pressure_cmh2o, w.flow_l_min, w.volume_ml), strict=True):
+            c.setData(w.time_s, y)
+        p = plan.pressures
+        self.limit_line.setPos(p.pressure_limit_cmh2o)
+        self.peep_line.setPos(p.peep_cmh2o)
+        # Ticks only at the numbers that matter (PEEP, the limit, the tidal volume): small plots stay legible.
+        # Ticks only at PEEP, the limit and half-scale marks: they change rarely, so the axes are not redrawn
+        # on every edit, and small plots stay legible.
+        h_q, h_v = w.flow_range[1] / 2, w.volume_range[1] / 2
+        ticks = (sorted({(p.peep_cmh2o, fmt(p.peep_cmh2o)),
+                         (p.pressure_limit_cmh2o, f"{fmt(p.pressure_limit_cmh2o)} limit")}),
+                 [(-h_q, fmt(-h_q)), (h_q, fmt(h_q))],
+                 [(0.0, "0"), (h_v, fmt(h_v))])
+        for plot, tk, cache in zip(self.plots, ticks, self.caches, strict=True):
+            if cache.get("ticks") != tk:
+                cache["ticks"] = tk
+                plot.getAxis("left").setTicks([tk, []])
+        self.left_line.setPos(w.end_expiratory_ml)
+        self.left_line.setVisible(not w.complete)
+        for plot, cache, yr in zip(self.plots, self.caches, (w.pressure_range, w.flow_range, w.volume_range),
+                                   strict=True):
+            _set_range(plot.vb, w.time_range, yr, cache)
+        if w.complete:
+            self.set_caption(f"Expiration complete: Te {fmt(plan.ventilation.te_s)} s = {fmt(w.te_tau, 2)} time "
+                             f"constants (τ {fmt(p.time_constant_s)} s); flow returns to zero before the next breath.")
+        else:
+            self.set_caption(f"EXPIRATION INCOMPLETE: Te {fmt(plan.ventilation.te_s)} s is only {fmt(w.te_tau, 2)} "
+                             f"τ; {fmt(w.end_expiratory_ml)} mL ({fmt(w.end_expiratory_fraction * 100, 2)} % of the "
+                             f"breath) is still in the lung when the next breath starts (auto-PEEP ≈ "
+                             f"{fmt(w.auto_peep_cmh2o, 2)} cmH2O). Dashed line: that volume.")
+
+    def curve_data(self) -> list[np.ndarray]:
+        return [c.getData()[1] for c in self.curves]
+
+
+# ---------------------------------------------------------------------------------------------
+
+
+class SensitivityPlot(PlotCard):
+    """Predicted PaCO2 against apparatus dead space at the recommended tidal volume and rate."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__("Dead-space sensitivity", parent)
+        self.setObjectName("plot-sensitivity")
+        self.widget = _new_plot_widget(self)
+        self.plot = self.widget.getPlotItem()
+        self.plot.setLabel("bottom", "Apparatus + tube dead space (mL)")
+        self.band = pg.LinearRegionItem(orientation="horizontal", movable=False)
+        self.plot.addItem(self.band)
+        self.curve = pg.PlotCurveItem(connect="finite")
+        self.plot.addItem(self.curve)
+        self.now_line = pg.InfiniteLine(angle=90, movable=False)
+        self.plot.addItem(self.now_line)
+        self.now = pg.ScatterPlotItem(size=self.fontMetrics().height() * 0.9, symbol="o")
+        self.plot.addItem(self.now)
+        self.now_label = _text_item(DAY.plot_fg, anchor=(1.15, 0.5))
+        self.plot.addItem(self.now_label)
+        self.add_plot(self.widget)
+        self.cache: dict = {}
+        self.data: views.Sensitivity | None = None
+        self.gas_unit = "mmHg"
+        self.set_theme(DAY)
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.widget.setBackground(theme.plot_bg)
+        self.style_plot(self.plot, theme)
+        self.curve.setPen(_pen(theme.accent, theme.line_width + 0.5))
+        band = QColor(theme.band)
+        band.setAlpha(200)
+        self.band.setBrush(QBrush(band))
+        for line in self.band.lines:
+            line.setPen(_pen(theme.ok, 1))
+        self.now_line.setPen(_pen(theme.plot_fg, 1.5, Qt.PenStyle.DashLine))
+        self.now.setBrush(QBrush(QColor(theme.point)))
+        self.now.setPen(_pen(theme.plot_bg, 2))
+        self.now_label.setColor(QColor(theme.plot_fg))
+
+    def show_plan(self, plan: Plan, gas_unit: str) -> None:
+        s = views.dead_space_sensitivity(plan)
+        self.data, self.gas_unit = s, gas_unit
+        if self.cache.get("label") != gas_unit:  # a new label redraws the axis: only on a unit change
+            self.cache["label"] = gas_unit
+            self.plot.setLabel("left", f"PaCO2 ({gas_unit})")
+        self.curve.setData(s.apparatus_ml, _gas(s.paco2_mmhg, gas_unit))
+        self.band.setRegion((_gas(s.band_mmhg[0], gas_unit), _gas(s.band_mmhg[1], gas_unit)))
+        self.now_line.setPos(s.current_ml)
+        y_hi = _gas(s.y_range[1], gas_unit)
+        cur = s.current_paco2_mmhg
+        shown = _gas(min(cur, s.y_range[1]) if math.isfinite(cur) else s.y_range[1], gas_unit)
+        shown = min(shown, 0.96 * y_hi)
+        self.now.setData([s.current_ml], [shown])
+        _set_text(self.now_label, "now" if math.isfinite(cur) and cur <= s.y_range[1] else "now (off the scale)")
+        self.now_label.setAnchor((-0.15, 0.5) if s.current_ml < 0.5 * s.x_range[1] else (1.1, 0.5))
+        self.now_label.setPos(s.current_ml, shown)
+        _set_range(self.plot.vb, s.x_range, (0.0, y_hi), self.cache)
+        v = plan.ventilation
+        if math.isfinite(cur):
+            slope = _gas(s.slope_mmhg_per_ml, gas_unit)
+            i = int(np.argmin(np.abs(s.apparatus_ml - s.current_ml)))
+            self.set_caption(
+                f"At {fmt(v.tidal_volume_ml)} mL × {fmt(v.rate_per_min)}/min, the {fmt(s.current_ml)} mL of apparatus "
+                f"now fitted gives PaCO2 ≈ {_gas_fmt(cur, gas_unit)}; each further mL adds about "
+                f"{fmt(slope, 2)} {gas_unit}. No gas exchange at all beyond {fmt(s.no_exchange_ml)} mL. To hold the "
+                f"target at this rate, minute volume must be {fmt(s.minute_needed_ml_min[i] / 1000)} L/min.")
+        else:
+            self.set_caption(f"The {fmt(s.current_ml)} mL of apparatus fitted leaves no alveolar ventilation at "
+                             f"{fmt(v.tidal_volume_ml)} mL per breath: remove apparatus first.")
+
+    def curve_data(self) -> np.ndarray:
+        return self.curve.getData()[1]

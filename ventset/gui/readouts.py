@@ -1,0 +1,600 @@
+"""Read-outs: the standing notice, the status line, the large settings, cautions, derived values and
+the assumptions trail. Widgets are created once; each plan only changes their text."""
+
+from __future__ import annotations
+
+import math
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QFrame,
+    QGridLayout,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QPushButton,
+    QScrollArea,
+    QSizePolicy,
+    QTableWidget,
+    QTableWidgetItem,
+    QVBoxLayout,
+    QWidget,
+)
+
+from ventset.errors import InputError
+from ventset.glossary import TERMS, tooltip
+from ventset.gui.text import Reading, Text
+from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours, severity_pixmap
+from ventset.model import STANDING_NOTICE, STRATEGY_LABELS, Plan
+from ventset.units import fmt, gas_pressure, mmhg_to_kpa
+
+
+def gas(mmhg: float, unit: str) -> tuple[str, str]:
+    """(number, unit) for a gas pressure held in mmHg, in the user's unit; '—' when not finite."""
+    if not math.isfinite(mmhg):
+        return "—", unit
+    return (fmt(mmhg_to_kpa(mmhg), 3) if unit == "kPa" else fmt(mmhg, 3)), unit
+
+
+def gas_text(mmhg: float, unit: str) -> str:
+    return gas_pressure(mmhg, unit) if math.isfinite(mmhg) else "— (no alveolar ventilation)"
+
+
+def _label(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = False, wrap: bool = False,
+           name: str = "") -> QLabel:
+    lab = QLabel(text, parent)
+    if factor != 1.0 or bold:
+        lab.setFont(scaled_font(parent.font(), factor, bold))
+    lab.setWordWrap(wrap)
+    if name:
+        lab.setObjectName(name)
+    lab.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+    return lab
+
+
+def _text(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = False, wrap: bool = False,
+          name: str = "", align: Qt.AlignmentFlag = Qt.AlignmentFlag.AlignLeft, lines: int = 1) -> Text:
+    t = Text(text, parent, wrap=wrap, align=align, name=name, lines=lines)
+    if factor != 1.0 or bold:
+        t.setFont(scaled_font(parent.font(), factor, bold))
+    return t
+
+
+class NoticeBanner(QFrame):
+    """The standing notice, always on screen."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("standing-notice")
+        self.setFrameShape(QFrame.Shape.StyledPanel)
+        lay = QHBoxLayout(self)
+        m = self.fontMetrics().height() // 3
+        lay.setContentsMargins(m * 2, m, m * 2, m)
+        self.icon = QLabel(self)
+        self.text = _label(self, STANDING_NOTICE, 0.95, wrap=True, name="standing-notice-text")
+        self.text.setAccessibleName("Standing notice")
+        lay.addWidget(self.icon, 0, Qt.AlignmentFlag.AlignTop)
+        lay.addWidget(self.text, 1)
+        self.set_theme(DAY)
+
+    def set_theme(self, theme: Theme) -> None:
+        self.icon.setPixmap(severity_pixmap(theme, "info", self.font()))
+        self.setStyleSheet(f"#standing-notice {{ background: {theme.info_bg}; border: 1px solid {theme.info}; "
+                           f"border-radius: 4px; }} #standing-notice QLabel {{ color: {theme.text}; }}")
+
+
+class StatusStrip(QFrame):
+    """Who the plan is for, whether it is current, what to expect on the monitor, and the caution count."""
+
+    go_to_field = Signal(str)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("status-strip")
+        lay = QGridLayout(self)
+        m = self.fontMetrics().height() // 3
+        lay.setContentsMargins(m * 2, m, m * 2, m)
+        self.badge = _label(self, "", 1.0, bold=True, name="plan-state")
+        self.patient = _text(self, "", 1.15, bold=True, name="patient-summary")
+        self.patient.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.expect = _text(self, "", 1.0, wrap=True, name="expect-line")
+        self.counts = _text(self, "", 1.0, bold=True, name="caution-counts", align=Qt.AlignmentFlag.AlignRight)
+        self.problem = _text(self, "", 1.0, bold=True, wrap=True, name="stale-reason")
+        self.fix = QPushButton("Go to the field", self)
+        self.fix.setObjectName("go-to-field")
+        self.fix.clicked.connect(lambda: self.go_to_field.emit(self._key))
+        self._key = ""
+        lay.addWidget(self.badge, 0, 0)
+        lay.addWidget(self.patient, 0, 1)
+        lay.addWidget(self.counts, 0, 2)
+        lay.addWidget(self.expect, 1, 0, 1, 3)
+        lay.addWidget(self.problem, 2, 0, 1, 2)
+        lay.addWidget(self.fix, 2, 2, Qt.AlignmentFlag.AlignRight)
+        lay.setColumnStretch(1, 1)
+        self.theme = DAY
+        self._stale = None
+        self.set_current(True)
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.expect.setColour(None, theme.danger)
+        s, self._stale = self._stale, None
+        self.set_current(not s if s is not None else True, self.problem.text())
+
+    def set_current(self, current: bool, problem: str = "", key: str = "") -> None:
+        self._key = key
+        t = self.theme
+        if self._stale != (not current):
+            self._stale = not current
+            if current:
+                self.badge.setText("✓ CURRENT")
+                self.setStyleSheet(f"#status-strip {{ background: {t.base}; border: 1px solid {t.border}; "
+                                   f"border-radius: 4px; }} #plan-state {{ color: {t.ok}; }}")
+                self.problem.setColour(None)
+            else:
+                self.badge.setText("⚠ NOT UPDATED")
+                self.setStyleSheet(f"#status-strip {{ background: {t.danger_bg}; border: 2px solid {t.danger}; "
+                                   f"border-radius: 4px; }} #plan-state {{ color: {t.danger}; }}")
+                self.problem.setColour(t.danger)
+        self.problem.setText(problem)
+        self.problem.setVisible(not current)
+        self.fix.setVisible(not current and bool(key))
+
+    def show_plan(self, plan: Plan, gas_unit: str, mass_unit: str) -> None:
+        r, v, p = plan.resolved, plan.ventilation, plan.pressures
+        name = plan.request.patient.name
+        label = r.species_label
+        custom = getattr(plan.request.patient, "custom_species", "")
+        if custom and custom.lower() not in label.lower():
+            label = f"{custom} (values from {r.species_label})"
+        mass = _mass_text(r.mass_kg, mass_unit)
+        lean = f", lean {_mass_text(r.lean_mass_kg, mass_unit)}" if abs(r.lean_mass_kg - r.mass_kg) > 1e-12 else ""
+        self.patient.setText(f"{name + ' — ' if name else ''}{label}, {mass}{lean}, {fmt(r.body_temp_c)} °C · "
+                             f"{'volume' if r.mode == 'volume' else 'pressure'}-controlled")
+        if math.isfinite(v.expected_paco2_mmhg):
+            reached = "" if v.target_reached else "  ·  <b>⚠ TARGET NOT REACHED</b>"
+            self.expect.setText(
+                f"Expect EtCO2 ≈ {gas_text(v.expected_etco2_mmhg, gas_unit)} and PaCO2 ≈ "
+                f"{gas_text(v.expected_paco2_mmhg, gas_unit)} (target {gas_text(v.target_paco2_mmhg, gas_unit)})"
+                f" · plateau {fmt(p.plateau_cmh2o)} cmH2O · {STRATEGY_LABELS[r.strategy].split(',')[0].lower()}"
+                f"{reached}")
+        else:
+            self.expect.setText("<b>⚠ NO ALVEOLAR VENTILATION at these settings: every breath is dead space.</b> "
+                                "Remove apparatus dead space before ventilating.")
+        n = {s: sum(1 for c in plan.cautions if c.severity == s) for s in ("danger", "caution", "info")}
+        self.counts.setText(f"{n['danger']} danger · {n['caution']} caution · {n['info']} info")
+
+
+def _mass_text(kg: float, unit: str) -> str:
+    if unit == "lb":
+        return f"{fmt(kg / 0.45359237)} lb ({fmt(kg)} kg)"
+    if unit == "g":
+        return f"{fmt(kg * 1000)} g"
+    return f"{fmt(kg)} kg"
+
+
+class _UnitOf:
+    """The unit half of a Reading, read like a label (``tile.unit.text()``)."""
+
+    def __init__(self, reading: Reading) -> None:
+        self.reading = reading
+
+    def text(self) -> str:
+        return self.reading.unit()
+
+    def setColour(self, colour) -> None:  # noqa: N802 - drawn with the number
+        pass
+
+
+class Tile(QFrame):
+    """One recommended setting: its name, a large number with its unit beside it, and a detail line."""
+
+    def __init__(self, key: str, name: str, unit: str, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.key = key
+        self.setObjectName(f"tile-{key}")
+        self.setProperty("tile", True)
+        self.setFrameShape(QFrame.Shape.StyledPanel)
+        lay = QVBoxLayout(self)
+        m = self.fontMetrics().height() // 3
+        lay.setContentsMargins(m * 2, m, m * 2, m)
+        lay.setSpacing(0)
+        self.name = _text(self, name, 0.95, bold=True, name=f"tile-{key}-name")
+        self.name.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        row = QHBoxLayout()
+        row.setSpacing(m)
+        self.value = Reading(self, name=f"tile-{key}-value")
+        self.value.set_reading("—", unit)
+        self.unit = _UnitOf(self.value)
+        row.addWidget(self.value, 1)
+        self.detail = _text(self, "", 0.9, wrap=True, name=f"tile-{key}-detail", lines=2)
+        lay.addWidget(self.name)
+        lay.addLayout(row)
+        lay.addWidget(self.detail)
+        lay.addStretch(1)
+        self.setToolTip(tooltip(key))
+        self.setAccessibleName(name)
+
+    def display(self, name: str, value: str, unit: str, detail: str) -> None:
+        if self.name.text() != name:
+            self.name.setText(name)
+        self.value.set_reading(value, unit)
+        if self.detail.text() != detail:
+            self.detail.setText(detail)
+        self.setAccessibleDescription(f"{name}: {value} {unit}. {detail}")
+
+
+class SettingsPanel(QFrame):
+    """The recommended settings, large and read at a glance."""
+
+    TILES = (("set_vt", "Set tidal volume", "mL"), ("rate", "Rate", "/min"), ("ti", "Inspiratory time", "s"),
+             ("flow", "Inspiratory flow", "L/min"), ("peep", "PEEP", "cmH2O"),
+             ("limit", "Pressure limit", "cmH2O"), ("fio2", "FiO2", ""), ("fresh_gas", "Fresh gas flow", "L/min"))
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("settings-panel")
+        outer = QVBoxLayout(self)
+        outer.setContentsMargins(0, 0, 0, 0)
+        head = QHBoxLayout()
+        self.title = _label(self, "Recommended starting settings", 1.2, bold=True, name="settings-title")
+        self.stale_tag = _label(self, "", 1.0, bold=True, name="settings-stale")
+        head.addWidget(self.title)
+        head.addStretch(1)
+        head.addWidget(self.stale_tag)
+        outer.addLayout(head)
+        grid = QGridLayout()
+        sp = self.fontMetrics().height() // 3
+        grid.setSpacing(sp)
+        self.tiles: dict[str, Tile] = {}
+        for i, (key, name, unit) in enumerate(self.TILES):
+            tile = Tile(key, name, unit, self)
+            self.tiles[key] = tile
+            grid.addWidget(tile, i // 4, i % 4)
+        for c in range(4):
+            grid.setColumnStretch(c, 1)
+        outer.addLayout(grid)
+        self.theme = DAY
+        self._stale: bool | None = None
+        self.set_stale(False)
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        s, self._stale = self._stale, None
+        self.set_stale(bool(s))
+
+    def set_stale(self, stale: bool) -> None:
+        if stale == self._stale:
+            return
+        self._stale = stale
+        t = self.theme
+        value_colour = t.muted if stale else t.text
+        bg = t.stale if stale else t.tile
+        border = f"2px dashed {t.danger}" if stale else f"1px solid {t.border}"
+        self.setStyleSheet(f"QFrame[tile=\"true\"] {{ background: {bg}; border: {border}; border-radius: 6px; }}"
+                           f" #settings-stale {{ color: {t.danger}; }}")
+        for tile in self.tiles.values():
+            for w in (tile.name, tile.value, tile.unit, tile.detail):
+                w.setColour(value_colour)
+        self.stale_tag.setText("⚠ STALE: last valid plan, not the current input" if stale else "")
+
+    def show_plan(self, plan: Plan, gas_unit: str) -> None:
+        v, p, o, r = plan.ventilation, plan.pressures, plan.oxygen, plan.resolved
+        lean = r.lean_mass_kg
+        t = self.tiles
+        if r.mode == "pressure":
+            t["set_vt"].display("Tidal volume", fmt(v.tidal_volume_ml), "mL",
+                                f"expected: {fmt(v.tidal_volume_ml / lean)} mL/kg from the pressure")
+            t["flow"].display("Inspiratory pressure", fmt(p.inspiratory_pressure_cmh2o), "cmH2O",
+                              f"above PEEP ({fmt(p.peak_cmh2o)} cmH2O at the airway)")
+        else:
+            comp = (f"; + {fmt(p.compressed_ml)} mL circuit" if p.compressed_ml >= 0.05 else "")
+            t["set_vt"].display("Set tidal volume", fmt(v.set_tidal_volume_ml), "mL",
+                                f"{fmt(v.tidal_volume_ml / lean)} mL/kg at patient{comp}")
+            t["flow"].display("Inspiratory flow", fmt(v.inspiratory_flow_l_min), "L/min",
+                           f"constant over Ti ({fmt(v.inspiratory_flow_l_min * 1000 / 60)} mL/s)")
+        t["rate"].display("Rate", fmt(v.rate_per_min), "/min", f"minute volume {fmt(v.minute_ml_min / 1000)} L/min")
+        t["ti"].display("Inspiratory time", fmt(v.ti_s), "s",
+                        f"Te {fmt(v.te_s)} s · I:E 1:{fmt(r.ie_expiratory_part, 2)}")
+        t["peep"].display("PEEP", fmt(p.peep_cmh2o), "cmH2O", f"plateau {fmt(p.plateau_cmh2o)} cmH2O, driving "
+                                                           f"{fmt(p.driving_cmh2o)} cmH2O")
+        over = " ⚠ ABOVE LIMIT" if p.peak_cmh2o > p.pressure_limit_cmh2o + 1e-9 else ""
+        what = "inspiratory" if r.mode == "pressure" else "peak"
+        t["limit"].display("Pressure limit", fmt(p.pressure_limit_cmh2o), "cmH2O",
+                           f"{what} {fmt(p.peak_cmh2o)} cmH2O{over}")
+        t["fio2"].display("FiO2", f"{o.fio2:.2f}", f"({fmt(o.fio2 * 100)} %)",
+                       f"alveolar PO2 ≈ {gas_text(o.pao2_alveolar_mmhg, gas_unit)}")
+        induct = (f"; induction {fmt(o.fresh_gas_induction_ml_min / 1000)} L/min"
+                  if o.fresh_gas_induction_ml_min > o.fresh_gas_ml_min + 1e-9 else "")
+        bag = getattr(o, "reservoir_bag_l", 0.0)
+        bag_txt = f"; bag {fmt(bag)} L" if bag else ""
+        t["fresh_gas"].display("Fresh gas flow", fmt(o.fresh_gas_ml_min / 1000), "L/min",
+                               f"{o.circuit_label.split(' (')[0]}{induct}{bag_txt}")
+
+
+class CautionRow(QFrame):
+    def __init__(self, parent: QWidget) -> None:
+        super().__init__(parent)
+        self.setObjectName("caution-row")
+        lay = QGridLayout(self)
+        m = self.fontMetrics().height() // 3
+        lay.setContentsMargins(m * 2, m, m * 2, m)
+        lay.setHorizontalSpacing(m * 2)
+        lay.setVerticalSpacing(0)
+        self.icon = QLabel(self)
+        self.word = _label(self, "", 1.0, bold=True)
+        self.code = _text(self, "", 0.85)
+        self.message = _text(self, "", 1.0, wrap=True)
+        lay.addWidget(self.icon, 0, 0, 2, 1, Qt.AlignmentFlag.AlignTop)
+        head = QHBoxLayout()
+        head.setSpacing(m * 2)
+        head.addWidget(self.word)
+        head.addWidget(self.code)
+        head.addStretch(1)
+        lay.addLayout(head, 0, 1)
+        lay.addWidget(self.message, 1, 1)
+        lay.setColumnStretch(1, 1)
+        self.severity = ""
+        self.theme_key = ""
+
+    def show_caution(self, severity: str, code: str, message: str, theme: Theme) -> None:
+        if severity != self.severity or theme.key != self.theme_key:
+            self.severity, self.theme_key = severity, theme.key
+            fg, bg = severity_colours(theme, severity)
+            self.icon.setPixmap(severity_pixmap(theme, severity, self.font()))
+            self.word.setText(SEVERITY_WORD.get(severity, severity.upper()))
+            width = 4 if severity == "danger" else 2
+            self.setStyleSheet(f"#caution-row {{ background: {bg}; border-left: {width * 2}px solid {fg}; "
+                               f"border-top: 1px solid {fg}; border-radius: 3px; }} "
+                               f"#caution-row QLabel {{ color: {theme.text}; background: transparent; }}")
+            self.word.setStyleSheet(f"color: {fg};")
+            self.code.setColour(theme.text)
+            self.message.setColour(theme.text)
+        if self.code.text() != code:
+            self.code.setText(code)
+        if self.message.text() != message:
+            self.message.setText(message)
+        self.setAccessibleName(f"{SEVERITY_WORD.get(severity, severity)}: {message}")
+
+
+class CautionsPanel(QFrame):
+    """Every caution of the plan, danger first, always visible."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("cautions-panel")
+        outer = QVBoxLayout(self)
+        outer.setContentsMargins(0, 0, 0, 0)
+        head = QHBoxLayout()
+        self.title = _label(self, "Cautions", 1.2, bold=True, name="cautions-title")
+        self.summary = _text(self, "", 1.0, name="cautions-summary", align=Qt.AlignmentFlag.AlignRight)
+        head.addWidget(self.title)
+        head.addStretch(1)
+        head.addWidget(self.summary)
+        outer.addLayout(head)
+        self.stale = _label(self, "", 0.95, bold=True, wrap=True, name="cautions-stale")
+        self.stale.setVisible(False)
+        outer.addWidget(self.stale)
+        self.scroll = QScrollArea(self)
+        self.scroll.setWidgetResizable(True)
+        self.scroll.setFrameShape(QFrame.Shape.NoFrame)
+        self.body = QWidget(self.scroll)
+        self.list = QVBoxLayout(self.body)
+        self.list.setContentsMargins(0, 0, 0, 0)
+        self.list.setSpacing(self.fontMetrics().height() // 3)
+        self.list.addStretch(1)
+        self.scroll.setWidget(self.body)
+        outer.addWidget(self.scroll, 1)
+        self.rows: list[CautionRow] = []
+        self.theme = DAY
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.stale.setStyleSheet(f"color: {theme.danger};")
+
+    def show_plan(self, plan: Plan) -> None:
+        cautions = plan.cautions
+        while len(self.rows) < len(cautions):
+            row = CautionRow(self.body)
+            self.list.insertWidget(len(self.rows), row)
+            self.rows.append(row)
+        for row, c in zip(self.rows, cautions, strict=False):
+            row.show_caution(c.severity, c.code, c.message, self.theme)
+            row.setVisible(True)
+        for row in self.rows[len(cautions):]:
+            row.setVisible(False)
+        n = {s: sum(1 for c in cautions if c.severity == s) for s in ("danger", "caution", "info")}
+        self.summary.setText(f"{n['danger']} danger · {n['caution']} caution · {n['info']} info")
+
+    def set_stale(self, stale: bool) -> None:
+        self.stale.setText("⚠ These cautions belong to the last valid plan." if stale else "")
+        self.stale.setVisible(stale)
+
+    def shown(self) -> list[tuple[str, str, str]]:
+        return [(r.severity, r.code.text(), r.message.text()) for r in self.rows if not r.isHidden()]
+
+
+class DerivedPanel(QScrollArea):
+    """Derived values with units: metabolism, ventilation, each dead-space part, mechanics, gases."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("derived-panel")
+        self.setWidgetResizable(True)
+        self.setFrameShape(QFrame.Shape.NoFrame)
+        body = QWidget(self)
+        self.grid = QGridLayout(body)
+        self.grid.setColumnStretch(0, 1)
+        self.grid.setHorizontalSpacing(self.fontMetrics().height())
+        self.setWidget(body)
+        self.body = body
+        self.values: dict[str, tuple[QLabel, QLabel, QLabel]] = {}
+        self._row = 0
+        layout = (
+            ("Metabolism", [("metabolic_rate", "Metabolic rate"), ("vo2", "O2 consumption (VO2)"),
+                            ("vco2", "CO2 output (VCO2)"), ("rq", "Respiratory quotient")]),
+            ("Ventilation", [("alveolar_ventilation", "Alveolar ventilation"),
+                             ("minute_ventilation", "Minute ventilation"), ("patient_vt", "Tidal volume at patient"),
+                             ("vt_per_kg", "Tidal volume per kg lean mass"), ("te", "Expiratory time")]),
+            ("Dead space", [("anatomical", "Anatomical (airway, intubated)")]),
+        )
+        for title, items in layout:
+            self._section(title)
+            for key, name in items:
+                self._value_row(key, name)
+        self.part_rows: list[tuple[QLabel, QLabel, QLabel]] = []
+        self._parts_at = self._row
+        self._row += 40  # room for part rows
+        for key, name in (("tube", "Tube beyond the incisors"), ("alveolar_ds", "Alveolar dead space"),
+                          ("total_ds", "Total dead space")):
+            self._value_row(key, name)
+        self._section("Mechanics (predicted)")
+        for key, name in (("plateau", "Plateau pressure"), ("peak", "Peak airway pressure"),
+                          ("driving", "Driving pressure (plateau − PEEP)"), ("compliance", "Compliance"),
+                          ("resistance", "Resistance"), ("tau", "Time constant τ = R·C"),
+                          ("te_tau", "Expiration in time constants"), ("compressed", "Circuit compression")):
+            self._value_row(key, name)
+        self._section("Gases")
+        for key, name in (("target_paco2", "Target PaCO2"), ("paco2", "Expected PaCO2"),
+                          ("etco2", "Expected EtCO2"), ("gradient", "PaCO2 − EtCO2 gradient"),
+                          ("pao2", "Alveolar PO2 (PAO2)"), ("pb", "Barometric pressure"),
+                          ("ph2o", "Water vapour pressure"), ("min_o2", "Minimum O2 flow"),
+                          ("reservoir_bag", "Reservoir bag")):
+            self._value_row(key, name)
+        self.grid.setRowStretch(self._row, 1)
+
+    def _section(self, title: str) -> None:
+        lab = _label(self.body, title, 1.05, bold=True)
+        self.grid.addWidget(lab, self._row, 0, 1, 3)
+        self._row += 1
+
+    def _value_row(self, key: str, name: str, row: int | None = None) -> tuple[QLabel, Text, Text]:
+        r = self._row if row is None else row
+        n = _label(self.body, name)
+        n.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        n.setMinimumWidth(self.fontMetrics().averageCharWidth() * 12)
+        v = _text(self.body, "—", 1.0, bold=True, name=f"derived-{key}", align=Qt.AlignmentFlag.AlignRight)
+        v.setMinimumWidth(self.fontMetrics().horizontalAdvance("00000.0"))
+        u = _text(self.body, "")
+        u.setMinimumWidth(self.fontMetrics().horizontalAdvance("mL/cmH2O (0.75 mL/cmH2O)"))
+        tip = tooltip(key)
+        if tip:
+            for w in (n, v, u):
+                w.setToolTip(tip)
+        self.grid.addWidget(n, r, 0)
+        self.grid.addWidget(v, r, 1)
+        self.grid.addWidget(u, r, 2)
+        if row is None:
+            self._row += 1
+            self.values[key] = (n, v, u)
+        return n, v, u
+
+    def _set(self, key: str, value: str, unit: str) -> None:
+        _, v, u = self.values[key]
+        if v.text() != value:
+            v.setText(value)
+        if u.text() != unit:
+            u.setText(unit)
+
+    def show_plan(self, plan: Plan, gas_unit: str) -> None:
+        m, d, v, p, o, r = (plan.metabolism, plan.dead_space, plan.ventilation, plan.pressures, plan.oxygen,
+                            plan.resolved)
+        s = self._set
+        s("metabolic_rate", fmt(m.metabolic_rate_w), "W (entered)" if m.entered else "W (estimated)")
+        s("vo2", fmt(m.vo2_ml_min), "mL/min")
+        s("vco2", fmt(m.vco2_ml_min), "mL/min")
+        s("rq", fmt(m.rq), "")
+        s("alveolar_ventilation", fmt(v.alveolar_ml_min), "mL/min")
+        s("minute_ventilation", fmt(v.minute_ml_min), "mL/min")
+        s("patient_vt", fmt(v.tidal_volume_ml), "mL")
+        s("vt_per_kg", fmt(v.tidal_volume_ml / r.lean_mass_kg), "mL/kg")
+        s("te", fmt(v.te_s), "s")
+        s("anatomical", fmt(d.anatomical_ml), "mL")
+        while len(self.part_rows) < len(d.parts):
+            self.part_rows.append(self._value_row(f"part{len(self.part_rows)}", "",
+                                                  self._parts_at + len(self.part_rows)))
+        for (n, val, u), part in zip(self.part_rows, d.parts, strict=False):
+            n.setText(f"  {part.name}")
+            n.setToolTip(f"{part.name}: {fmt(part.volume_ml)} mL — {part.source}")
+            val.setText(fmt(part.volume_ml))
+            u.setText("mL")
+            for w in (n, val, u):
+                w.setVisible(True)
+        for row in self.part_rows[len(d.parts):]:
+            for w in row:
+                w.setVisible(False)
+        s("tube", fmt(d.tube_ml), "mL")
+        s("alveolar_ds", fmt(d.alveolar_ml), "mL")
+        share = d.total_ml / v.tidal_volume_ml * 100 if v.tidal_volume_ml > 0 else math.inf
+        s("total_ds", fmt(d.total_ml), f"mL ({fmt(share, 2)} % of VT)")
+        s("plateau", fmt(p.plateau_cmh2o), "cmH2O")
+        s("peak", fmt(p.peak_cmh2o), "cmH2O")
+        s("driving", fmt(p.driving_cmh2o), "cmH2O")
+        s("compliance", fmt(p.compliance_ml_cmh2o), "mL/cmH2O")
+        s("resistance", fmt(p.resistance_cmh2o_l_s), "cmH2O/(L/s)")
+        s("tau", fmt(p.time_constant_s), "s")
+        s("te_tau", fmt(v.te_s / p.time_constant_s, 2), "τ")
+        s("compressed", fmt(p.compressed_ml), f"mL ({fmt(p.compressible_ml_cmh2o)} mL/cmH2O)")
+        for key, mmhg in (("target_paco2", v.target_paco2_mmhg), ("paco2", v.expected_paco2_mmhg),
+                          ("etco2", v.expected_etco2_mmhg), ("gradient", r.gradient_mmhg),
+                          ("pao2", o.pao2_alveolar_mmhg), ("pb", o.barometric_mmhg),
+                          ("ph2o", o.water_vapour_mmhg)):
+            s(key, *gas(mmhg, gas_unit))
+        s("min_o2", fmt(o.min_o2_flow_ml_min), "mL/min")
+        bag = getattr(o, "reservoir_bag_l", 0.0)
+        s("reservoir_bag", fmt(bag) if bag else "—", "L" if bag else "")
+
+    def texts(self) -> list[str]:
+        return [w.text() for w in self.body.findChildren(QLabel)] + [w.text() for w in self.body.findChildren(Text)]
+
+
+class AssumptionsPanel(QTableWidget):
+    """Every default the plan used, with its value and source."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(0, 3, parent)
+        self.setObjectName("assumptions-panel")
+        self.setHorizontalHeaderLabels(["Assumption", "Value", "Source"])
+        self.verticalHeader().setVisible(False)
+        self.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.setWordWrap(True)
+        self.setAlternatingRowColors(True)
+        h = self.horizontalHeader()
+        h.setSectionResizeMode(0, QHeaderView.ResizeMode.Interactive)
+        h.setSectionResizeMode(1, QHeaderView.ResizeMode.Interactive)
+        h.setSectionResizeMode(2, QHeaderView.ResizeMode.Stretch)
+        fm = self.fontMetrics()
+        self.setColumnWidth(0, fm.horizontalAdvance("Anatomical dead space (unintubated)"))
+        self.setColumnWidth(1, fm.horizontalAdvance("29.3 cmH2O/(L/s)") + fm.height())
+        self.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        self._last: tuple = ()
+
+    def show_plan(self, plan: Plan) -> None:
+        rows = tuple((a.name, f"{fmt(a.value) if isinstance(a.value, float) else a.value} {a.unit}".strip(),
+                      a.source) for a in plan.assumptions)
+        if rows == self._last:
+            return
+        self._last = rows
+        self.setRowCount(len(rows))
+        for i, row in enumerate(rows):
+            for j, text in enumerate(row):
+                item = self.item(i, j)
+                if item is None:
+                    item = QTableWidgetItem()
+                    self.setItem(i, j, item)
+                if item.text() != text:
+                    item.setText(text)
+                    item.setToolTip(text)
+
+
+def first_error_text(errors: list[InputError]) -> str:
+    if not errors:
+        return ""
+    e = errors[0]
+    more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
+    return f"Fix: {e.field} — {e.reason}{more}. The numbers shown are from the last valid input."
+
+
+__all__ = ["NoticeBanner", "StatusStrip", "SettingsPanel", "CautionsPanel", "DerivedPanel", "AssumptionsPanel",
+           "TERMS", "first_error_text"]

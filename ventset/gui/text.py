@@ -1,0 +1,265 @@
+"""A read-out text that repaints only itself when its number changes.
+
+A word-wrapped QLabel asks every layout up to the window to recalculate on each setText, so one
+changed number repaints the whole window. ``Text`` asks for a new layout only when the height it
+needs for its width really changes; otherwise it just repaints its own rectangle. Rich text is a
+small subset: ``<b>…</b>`` spans drawn bold in ``strong_colour``.
+"""
+
+from __future__ import annotations
+
+import re
+
+from PySide6.QtCore import QRect, QSize, Qt
+from PySide6.QtGui import QColor, QFont, QFontMetrics, QPainter, QTextLayout, QTextOption
+from PySide6.QtWidgets import QSizePolicy, QWidget
+
+_BOLD = re.compile(r"<b>(.*?)</b>", re.S)
+
+
+class Text(QWidget):
+    """Plain (or lightly bold-marked) text, optionally wrapped, left/right aligned."""
+
+    def __init__(self, text: str = "", parent: QWidget | None = None, *, wrap: bool = False,
+                 align: Qt.AlignmentFlag = Qt.AlignmentFlag.AlignLeft, name: str = "", lines: int = 1) -> None:
+        super().__init__(parent)
+        self._min_lines = max(1, lines)  # height kept for this many lines: a longer text need not move others
+        self._text = ""
+        self._plain = ""
+        self._spans: list[tuple[int, int]] = []
+        self._wrap = wrap
+        self._align = align
+        self._colour: QColor | None = None
+        self._strong: QColor | None = None
+        self._lines_h = 0
+        self._cache: tuple | None = None
+        self._hfw: dict = {}
+        self._size_dirty = False
+        if name:
+            self.setObjectName(name)
+        self.setAttribute(Qt.WidgetAttribute.WA_OpaquePaintEvent, False)
+        pol = QSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Preferred)
+        if wrap:
+            pol = QSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+            pol.setHeightForWidth(True)
+        self.setSizePolicy(pol)
+        self.setText(text)
+
+    # ------------------------------------------------------------------ content
+    def text(self) -> str:
+        return self._text
+
+    def plainText(self) -> str:  # noqa: N802 - Qt-style name, as QLabel's text()
+        return self._plain
+
+    def setText(self, text: str) -> None:  # noqa: N802 - same API as QLabel
+        if text == self._text:
+            return
+        old_plain = self._plain
+        self._text = text
+        spans, plain, pos = [], [], 0
+        for m in _BOLD.finditer(text):
+            plain.append(text[pos:m.start()])
+            start = sum(len(x) for x in plain)
+            plain.append(m.group(1))
+            spans.append((start, len(m.group(1))))
+            pos = m.end()
+        plain.append(text[pos:])
+        self._plain = "".join(plain)
+        self._spans = spans
+        self.setAccessibleName(self._plain)
+        if not self.isVisible():
+            self._size_dirty = True  # hidden (e.g. another tab): ask for room when shown, not now
+        elif self._needs_new_size(old_plain):
+            self.updateGeometry()
+        self.update()
+
+    def setColour(self, colour: str | QColor | None, strong: str | QColor | None = None) -> None:  # noqa: N802
+        self._colour = QColor(colour) if colour is not None else None
+        self._strong = QColor(strong) if strong is not None else None
+        self.update()
+
+    def setWordWrap(self, on: bool) -> None:  # noqa: N802 - QLabel API
+        self._wrap = on
+        self.updateGeometry()
+
+    # ------------------------------------------------------------------ size
+    def showEvent(self, e) -> None:  # noqa: N802 - Qt override
+        super().showEvent(e)
+        if self._size_dirty:
+            self._size_dirty = False
+            self.updateGeometry()
+
+    def _needs_new_size(self, old_plain: str) -> bool:
+        if not self._wrap:  # ask for room only when the text no longer fits
+            return self.fontMetrics().horizontalAdvance(self._plain) + 2 > self.width()
+        h = self.heightForWidth(max(1, self.width()))
+        changed = h != self._lines_h
+        self._lines_h = h
+        return changed
+
+    def _layout(self, width: int) -> tuple[QTextLayout, int]:
+        key = (self._plain, width, tuple(self._spans), self.font().key(), self._wrap, int(self._align),
+               self._strong.rgba() if self._strong is not None else 0)
+        if self._cache is not None and self._cache[0] == key:
+            return self._cache[1], self._cache[2]
+        layout, h = self._make_layout(width)
+        self._cache = (key, layout, h)
+        return layout, h
+
+    def _make_layout(self, width: int) -> tuple[QTextLayout, int]:
+        layout = QTextLayout(self._plain, self.font())
+        opt = QTextOption()
+        opt.setWrapMode(QTextOption.WrapMode.WordWrap if self._wrap else QTextOption.WrapMode.NoWrap)
+        opt.setAlignment(self._align)
+        layout.setTextOption(opt)
+        if self._spans:
+            from PySide6.QtGui import QTextCharFormat
+
+            ranges = []
+            for start, length in self._spans:
+                r = QTextLayout.FormatRange()
+                r.start, r.length = start, length
+                f = QTextCharFormat()
+                f.setFontWeight(QFont.Weight.Bold)
+                if self._strong is not None:
+                    f.setForeground(self._strong)
+                r.format = f
+                ranges.append(r)
+            layout.setFormats(ranges)
+        layout.beginLayout()
+        y = 0.0
+        while True:
+            line = layout.createLine()
+            if not line.isValid():
+                break
+            line.setLineWidth(width)
+            line.setPosition(_pt(0.0, y))
+            y += line.height()
+        layout.endLayout()
+        return layout, int(y + 0.999)
+
+    def hasHeightForWidth(self) -> bool:  # noqa: N802 - Qt override
+        return self._wrap
+
+    def heightForWidth(self, width: int) -> int:  # noqa: N802 - Qt override
+        if not self._plain:
+            return self._reserved()
+        key = (self._plain, width, self.font().key())
+        h = self._hfw.get(key)
+        if h is None:  # layouts ask again and again for the same widths: remember the answers
+            if len(self._hfw) > 64:
+                self._hfw.clear()
+            h = self._hfw[key] = max(self._reserved(), self._make_layout(max(1, width))[1])
+        return h
+
+    def _reserved(self) -> int:
+        fm = self.fontMetrics()
+        return fm.height() + (self._min_lines - 1) * fm.lineSpacing()
+
+    def sizeHint(self) -> QSize:  # noqa: N802 - Qt override
+        fm = QFontMetrics(self.font())
+        if self._wrap:
+            w = min(fm.horizontalAdvance(self._plain), fm.averageCharWidth() * 60) or fm.averageCharWidth() * 10
+            return QSize(w, self.heightForWidth(w))
+        return QSize(fm.horizontalAdvance(self._plain) + 2, fm.height())
+
+    def minimumSizeHint(self) -> QSize:  # noqa: N802 - Qt override
+        # Never depends on the text, so a new number cannot push the panels around.
+        fm = QFontMetrics(self.font())
+        return QSize(fm.averageCharWidth() * (8 if self._wrap else 3), fm.height())
+
+    def resizeEvent(self, e) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(e)
+        if self._wrap:
+            h = self.heightForWidth(self.width())
+            if h != self._lines_h:
+                self._lines_h = h
+                self.updateGeometry()
+
+    def changeEvent(self, e) -> None:  # noqa: N802 - Qt override; a font change changes the size
+        super().changeEvent(e)
+        from PySide6.QtCore import QEvent
+
+        if e.type() == QEvent.Type.FontChange:
+            self.updateGeometry()
+
+    # ------------------------------------------------------------------ paint
+    def paintEvent(self, e) -> None:  # noqa: N802 - Qt override
+        if not self._plain:
+            return
+        p = QPainter(self)
+        p.setPen(self._colour if self._colour is not None else self.palette().color(self.foregroundRole()))
+        rect: QRect = self.contentsRect()
+        layout, h = self._layout(rect.width())
+        y = rect.top() + max(0, (rect.height() - h) // 2) if not self._wrap else rect.top()
+        layout.draw(p, _pt(rect.left(), y))
+        p.end()
+
+
+def _pt(x: float, y: float):
+    from PySide6.QtCore import QPointF
+
+    return QPointF(x, y)
+
+
+class Reading(QWidget):
+    """A large number with its unit right beside it on the same baseline (fonts relative to the app font)."""
+
+    def __init__(self, parent: QWidget | None = None, *, value_scale: float = 2.3, unit_scale: float = 1.15,
+                 name: str = "") -> None:
+        super().__init__(parent)
+        from ventset.gui.theme import scaled_font
+
+        self._value, self._unit = "—", ""
+        self._vf = scaled_font(self.font(), value_scale, bold=True)
+        self._uf = scaled_font(self.font(), unit_scale)
+        self._colour: QColor | None = None
+        if name:
+            self.setObjectName(name)
+        self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Fixed)
+
+    def text(self) -> str:
+        return self._value
+
+    def value_font(self) -> QFont:
+        return QFont(self._vf)
+
+    def unit(self) -> str:
+        return self._unit
+
+    def set_reading(self, value: str, unit: str) -> None:
+        if (value, unit) == (self._value, self._unit):
+            return
+        self._value, self._unit = value, unit
+        self.setAccessibleName(f"{value} {unit}".strip())
+        if self._width() > self.width():
+            self.updateGeometry()
+        self.update()
+
+    def setColour(self, colour: str | QColor | None) -> None:  # noqa: N802
+        self._colour = QColor(colour) if colour is not None else None
+        self.update()
+
+    def _width(self) -> int:
+        gap = QFontMetrics(self._uf).averageCharWidth() // 2
+        return QFontMetrics(self._vf).horizontalAdvance(self._value) + gap + QFontMetrics(self._uf).horizontalAdvance(
+            self._unit) + 2
+
+    def sizeHint(self) -> QSize:  # noqa: N802 - Qt override
+        return QSize(self._width(), QFontMetrics(self._vf).height())
+
+    def minimumSizeHint(self) -> QSize:  # noqa: N802 - Qt override
+        return QSize(QFontMetrics(self._vf).averageCharWidth() * 3, QFontMetrics(self._vf).height())
+
+    def paintEvent(self, e) -> None:  # noqa: N802 - Qt override
+        p = QPainter(self)
+        p.setPen(self._colour if self._colour is not None else self.palette().color(self.foregroundRole()))
+        vfm = QFontMetrics(self._vf)
+        base = vfm.ascent() + max(0, (self.height() - vfm.height()) // 2)
+        p.setFont(self._vf)
+        p.drawText(0, base, self._value)
+        x = vfm.horizontalAdvance(self._value) + QFontMetrics(self._uf).averageCharWidth() // 2
+        p.setFont(self._uf)
+        p.drawText(x, base, self._unit)
+        p.end()
