@@ -23,7 +23,6 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QPushButton,
     QRadioButton,
-    QSizePolicy,
     QTableWidget,
     QTableWidgetItem,
     QToolButton,
@@ -842,7 +841,3 @@ class InputForm(QWidget):
         elif key == "parts":
             self.parts_editor.table.setFocus()
 
-
-def expanding(widget: QWidget) -> QWidget:
-    widget.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Preferred)
-    return widget

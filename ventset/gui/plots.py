@@ -7,7 +7,7 @@ import math
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import QRectF, Qt, Signal
+from PySide6.QtCore import QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QBrush, QColor, QPen
 from PySide6.QtWidgets import (
     QFrame,
@@ -157,6 +157,10 @@ class BreathPlot(PlotCard):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__("Where one breath goes", parent)
         self.setObjectName("plot-breath")
+        self.setToolTip("<b>Where one breath goes</b><br>The set breath in the order the gas travels. Anatomical "
+                        "dead space: Stahl 1967 allometry, intubated share from the species; tube: π·(ID/2)²·length; "
+                        "alveolar dead space: species fraction of VT; compression: compressible volume × (peak − "
+                        "PEEP).")
         self.widget = _new_plot_widget(self)
         self.plot = self.widget.getPlotItem()
         self.plot.setLabel("bottom", "mL along the set breath")
@@ -298,6 +302,9 @@ class SettingsMapPlot(PlotCard):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__("Settings map: tidal volume × rate", parent)
         self.setObjectName("plot-map")
+        self.setToolTip("<b>Settings map</b><br>Lines of equal PaCO2 = VCO2·K(T) / (f·(VT·(1 − f_alv) − VD)) "
+                        "(alveolar ventilation equation). Plateau = VT/C + PEEP; peak = plateau + R·VT/Ti "
+                        "(equation of motion). Click a point to read it.")
         self.widget = _new_plot_widget(self)
         self.plot = self.widget.getPlotItem()
         self.plot.setLabel("bottom", "Tidal volume at the patient (mL)")
@@ -439,7 +446,6 @@ class SettingsMapPlot(PlotCard):
         _set_text(self.dead_label, "no gas exchange")
         self.dead_label.setPos(vd, r0 + 0.5 * (r1 - r0))
         self._dead_at = (vd, v0, v1)
-        self._fit_dead_label()
         self.dead_label.setVisible(v0 < vd < v1)
         trap = views.trapping_rate_per_min(plan, rate_hi=r1)
         self.trap_line.setPos(trap if math.isfinite(trap) else r1 * 2)
@@ -450,6 +456,7 @@ class SettingsMapPlot(PlotCard):
         v = plan.ventilation
         self.point.setData([v.tidal_volume_ml], [v.rate_per_min])
         _set_range(self.plot.vb, (v0, v1), (r0, r1), self.cache)
+        self._fit_dead_label()
         lo, hi = m.band_mmhg
         self.set_caption(
             f"Lines: PaCO2 in {gas_unit}, bold = target; green band {fmt(_gas(lo, gas_unit), 3)}–"
@@ -464,7 +471,8 @@ class SettingsMapPlot(PlotCard):
     def _fit_dead_label(self) -> None:
         """Show the 'no gas exchange' label only where the dark zone is wide enough to hold it."""
         vd, v0, v1 = getattr(self, "_dead_at", (0.0, 0.0, 1.0))
-        px = (vd - v0) / (v1 - v0) * self.plot.vb.width()
+        vb = self.plot.vb
+        px = vb.mapViewToScene(QPointF(vd, 0)).x() - vb.mapViewToScene(QPointF(v0, 0)).x()
         self.dead_label.setVisible(px > self.fontMetrics().horizontalAdvance("no gas exchange") + 6)
 
     def _clicked(self, ev) -> None:
@@ -508,6 +516,8 @@ class WaveformPlot(PlotCard):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__("Airway pressure, flow and volume (3 breaths)", parent)
         self.setObjectName("plot-waves")
+        self.setToolTip("<b>Airway waveforms</b><br>Passive single-compartment lung, P = V/C + R·V̇ + PEEP; "
+                        "expiration empties as e^(−t/τ) with τ = R·C.")
         self.widget = pg.GraphicsLayoutWidget(self)
         self.widget.setFocusPolicy(Qt.FocusPolicy.NoFocus)
         self.widget.setMinimumHeight(self.fontMetrics().height() * 12)
@@ -602,6 +612,8 @@ class SensitivityPlot(PlotCard):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__("Dead-space sensitivity", parent)
         self.setObjectName("plot-sensitivity")
+        self.setToolTip("<b>Dead-space sensitivity</b><br>PaCO2 at the recommended VT and rate as apparatus dead "
+                        "space changes (alveolar ventilation equation).")
         self.widget = _new_plot_widget(self)
         self.plot = self.widget.getPlotItem()
         self.plot.setLabel("bottom", "Apparatus + tube dead space (mL)")

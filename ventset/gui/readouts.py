@@ -23,7 +23,7 @@ from PySide6.QtWidgets import (
 )
 
 from ventset.errors import InputError
-from ventset.glossary import TERMS, tooltip
+from ventset.glossary import tooltip
 from ventset.gui.text import Reading, Text
 from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours, severity_pixmap
 from ventset.model import STANDING_NOTICE, STRATEGY_LABELS, Plan
@@ -190,7 +190,7 @@ class _UnitOf:
 class Tile(QFrame):
     """One recommended setting: its name, a large number with its unit beside it, and a detail line."""
 
-    def __init__(self, key: str, name: str, unit: str, parent: QWidget | None = None) -> None:
+    def __init__(self, key: str, name: str, unit: str, parent: QWidget | None = None, lines: int = 2) -> None:
         super().__init__(parent)
         self.key = key
         self.setObjectName(f"tile-{key}")
@@ -208,7 +208,7 @@ class Tile(QFrame):
         self.value.set_reading("—", unit)
         self.unit = _UnitOf(self.value)
         row.addWidget(self.value, 1)
-        self.detail = _text(self, "", 0.9, wrap=True, name=f"tile-{key}-detail", lines=2)
+        self.detail = _text(self, "", 0.9, wrap=True, name=f"tile-{key}-detail", lines=lines)
         lay.addWidget(self.name)
         lay.addLayout(row)
         lay.addWidget(self.detail)
@@ -249,7 +249,7 @@ class SettingsPanel(QFrame):
         grid.setSpacing(sp)
         self.tiles: dict[str, Tile] = {}
         for i, (key, name, unit) in enumerate(self.TILES):
-            tile = Tile(key, name, unit, self)
+            tile = Tile(key, name, unit, self, lines=3 if key == "fresh_gas" else 2)
             self.tiles[key] = tile
             grid.addWidget(tile, i // 4, i % 4)
         for c in range(4):
@@ -595,6 +595,3 @@ def first_error_text(errors: list[InputError]) -> str:
     more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
     return f"Fix: {e.field} — {e.reason}{more}. The numbers shown are from the last valid input."
 
-
-__all__ = ["NoticeBanner", "StatusStrip", "SettingsPanel", "CautionsPanel", "DerivedPanel", "AssumptionsPanel",
-           "TERMS", "first_error_text"]
