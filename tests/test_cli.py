@@ -113,3 +113,16 @@ def test_help_of_every_command(command):
     # argparse treats '%' in help text as a format code; a bare one crashes --help.
     r = subprocess.run([sys.executable, "-m", "ventset", command, "--help"], capture_output=True, text=True)
     assert r.returncode == 0 and "usage" in r.stdout and "Traceback" not in r.stderr
+
+
+def test_custom_species_is_named_and_cautioned(capsys):
+    code, out, _ = run(capsys, "plan", "--species", "marsupial", "--custom-species", "Tree kangaroo", "--mass", "8 kg",
+                       "--json")
+    data = json.loads(out)
+    assert code == 0 and data["patient"]["species_label"].startswith("Tree kangaroo")
+    assert any(c["code"] == "CUSTOM_SPECIES" for c in data["cautions"])
+
+
+def test_wrong_unit_for_fio2_names_percent(capsys):
+    code, _, err = run(capsys, "plan", "--species", "dog", "--mass", "20 kg", "--fio2", "50 kg")
+    assert code == 2 and "--fio2" in err and "%" in err

@@ -29,6 +29,9 @@ class _Parser(argparse.ArgumentParser):
 def _add_request_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--species", required=True, help="species key, name or alias (see 'ventset species')")
     p.add_argument("--name", default="", help="patient name for the printout")
+    p.add_argument("--custom-species", default="", metavar="NAME",
+                   help="a species not in the library, planned with the values of --species (its base) unless "
+                        "entered; a caution says so")
     p.add_argument("--apparatus", action="append", default=[], metavar="NAME[=VOLUME]",
                    help="a part between Y-piece and incisors: a catalogue key (see 'ventset parts'), "
                         "or NAME=VOLUME such as 'hme=12 mL'; repeat for each part")
@@ -94,7 +97,8 @@ def request_from_args(ns: argparse.Namespace, library) -> Request:
     v = values
     return Request(
         patient=Patient(ns.species, v["mass"], v["lean-mass"], v["body-temperature"], v["metabolic-rate"], v["rq"],
-                        v["alveolar-dead-space"], v["compliance"], v["resistance"], ns.name),
+                        v["alveolar-dead-space"], v["compliance"], v["resistance"], ns.name,
+                        ns.custom_species),
         circuit=Circuit(_parts(ns.apparatus, library), v["tube-id"], v["tube-length"], ns.circuit,
                         v["compressible-volume"], ns.mode, v["sampling-flow"] or 0.0),
         targets=Targets(paco2_mmhg=v["target-paco2"], etco2_mmhg=v["target-etco2"], gradient_mmhg=v["gradient"],

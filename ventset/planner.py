@@ -257,8 +257,9 @@ def plan(request: Request, library: Library | None = None) -> Plan:
         target = sp.paco2_target_mmhg.start
         used("Target PaCO2", target, "mmHg", sp.paco2_target_mmhg.source)
     va = gas.alveolar_ventilation_ml_min(vco2, target, temp)
-    used("Alveolar ventilation constant K(T)", gas.alveolar_constant_mmhg(temp) / 1000, "L·mmHg/mL at body temperature",
-         "alveolar ventilation equation, 0.863 at 37 °C (derived)")
+    used("Alveolar ventilation constant K(T)", gas.alveolar_constant_mmhg(temp) / 1000, "",
+         f"VA (L/min) = VCO2 (mL/min) × K / PaCO2 (mmHg) at {fmt(temp)} °C; 0.863 at 37 °C "
+         "(alveolar ventilation equation, derived)")
 
     # --- dead space ---------------------------------------------------------------
     anat_full = deadspace.anatomical_dead_space_ml(lean, sp.anatomical_coefficient_ml, sp.anatomical_exponent)

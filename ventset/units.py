@@ -95,6 +95,8 @@ def parse_quantity(text: object, unit: str, field: str, *, default_unit: str | N
         value = convert(number, src, unit)
     except Exception as exc:  # pint raises several types for bad or mismatched units
         name = type(exc).__name__
+        shown = {"percent": "%", "degC": "°C", "1/min": "/min", "cmH2O*s/L": "cmH2O/(L/s)"}.get(unit, unit)
+        unit = shown
         if "Dimensionality" in name:
             reason = f"'{unit_text}' is not a unit of this kind (expected something like {unit})"
         else:
