@@ -242,7 +242,9 @@ def _species(key: str, t: dict, groups: dict[str, Group]) -> Species:
         raise r.fail("notes", "must be a list of tables")
     for i, n in enumerate(raw_notes):
         nr = _Reader(f"species.toml species '{key}' notes[{i}]", n if isinstance(n, dict) else {})
-        notes.append(Note(nr.text("severity", SEVERITIES), nr.text("code"), nr.text("text"),
+        # Species notes are standing facts about the species: at most "caution", so that "danger" always
+        # means this plan's own numbers are dangerous.
+        notes.append(Note(nr.text("severity", ("info", "caution")), nr.text("code"), nr.text("text"),
                           nr.source(n if isinstance(n, dict) else {}, "source")))
     aliases = t.get("aliases", [])
     if not isinstance(aliases, list) or not all(isinstance(a, str) for a in aliases):
