@@ -32,9 +32,21 @@ fi
 if [ ! -x .venv/bin/python ]; then
   python3 -m venv .venv
 fi
-.venv/bin/python -m pip install -q --upgrade pip >/dev/null
-if [ "$want_test" = 1 ]; then
-  .venv/bin/python -m pip install -q -e ".[test]"
-else
-  .venv/bin/python -m pip install -q -e .
+# Install (again) only when pyproject.toml or setup.py changed, or the test extras are newly wanted.
+target="."
+[ "$want_test" = 1 ] && target=".[test]"
+stamp=".venv/.ventset-installed"
+hash="$(cat pyproject.toml setup.py | sha256sum | cut -c1-16)"
+have="$(cat "$stamp" 2>/dev/null || true)"
+if [ "$have" != "$hash $target" ] && [ "$have $target" != "$hash .[test] ." ]; then
+  log=$(mktemp)
+  echo "setup: installing Python packages into .venv (the first time takes about a minute)"
+  if ! { .venv/bin/python -m pip install -q --upgrade pip && .venv/bin/python -m pip install -q -e "$target"; } \
+       >"$log" 2>&1; then
+    cat "$log" >&2
+    echo "setup: pip install failed (output above)" >&2
+    exit 1
+  fi
+  rm -f "$log"
+  echo "$hash $target" > "$stamp"
 fi
