@@ -26,6 +26,11 @@ class _Parser(argparse.ArgumentParser):
         self.exit(2, f"ventset: {message}\n")
 
 
+def print_json(obj: object) -> None:
+    """Print a result as strict JSON (no NaN/Infinity; non-ASCII kept) on stdout."""
+    print(json.dumps(obj, indent=2, ensure_ascii=False, allow_nan=False))
+
+
 def _add_request_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--species", required=True, help="species key, name or alias (see 'ventset species')")
     p.add_argument("--name", default="", help="patient name for the printout")
@@ -147,7 +152,7 @@ def _cmd_plan(ns: argparse.Namespace) -> int:
         if hasattr(mod, "after_plan"):
             mod.after_plan(ns, request, result)
     if ns.json:
-        print(json.dumps(plan_to_dict(result), indent=2, ensure_ascii=False, allow_nan=False))
+        print_json(plan_to_dict(result))
     else:
         print(plan_to_text(result, ns.gas_unit))
     return 0

@@ -107,6 +107,7 @@ def write_pdf(plan, path: str, gas_unit: str = "mmHg", case_name: str = "") -> N
 
 
 def _cmd_show(ns: argparse.Namespace) -> int:
+    from ventset.cli import print_json
     from ventset.library import load_library
     from ventset.report import plan_to_dict, plan_to_text
 
@@ -115,7 +116,7 @@ def _cmd_show(ns: argparse.Namespace) -> int:
         if opened.case.plan is None:
             raise cases.CaseError(ns.case, "it holds no stored plan" + (f" ({opened.case.plan_error})"
                                                                          if opened.case.plan_error else ""))
-        print(json.dumps(opened.case.plan, indent=2, ensure_ascii=False, allow_nan=False))
+        print_json(opened.case.plan)
         return 0
     for line in opened.messages:
         _say(line)
@@ -127,7 +128,7 @@ def _cmd_show(ns: argparse.Namespace) -> int:
 
         print(plan_summary(opened.plan, ns.gas_unit))
     elif ns.json:
-        print(json.dumps(plan_to_dict(opened.plan), indent=2, ensure_ascii=False, allow_nan=False))
+        print_json(plan_to_dict(opened.plan))
     else:
         print(plan_to_text(opened.plan, ns.gas_unit))
     return 0

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import json
 
 from ventset.errors import InputError
 from ventset.fields import FIELDS
@@ -79,7 +78,7 @@ def _renamed(err: InputError, options: dict[str, str]) -> InputError:
 
 
 def _cmd_adjust(ns: argparse.Namespace) -> int:
-    from ventset.cli import request_from_args
+    from ventset.cli import print_json, request_from_args
     from ventset.library import load_library
     from ventset.titrate import Measurement, adjust, adjustment_to_dict, adjustment_to_text
 
@@ -108,13 +107,14 @@ def _cmd_adjust(ns: argparse.Namespace) -> int:
     except InputError as err:
         raise _renamed(err, _ADJUST_OPTIONS) from None
     if ns.json:
-        print(json.dumps(adjustment_to_dict(result), indent=2, ensure_ascii=False, allow_nan=False))
+        print_json(adjustment_to_dict(result))
     else:
         print(adjustment_to_text(result, ns.gas_unit))
     return 0
 
 
 def _cmd_deadspace(ns: argparse.Namespace) -> int:
+    from ventset.cli import print_json
     from ventset.fields import parse_field
     from ventset.library import load_library
     from ventset.model import Patient, Request
@@ -149,7 +149,7 @@ def _cmd_deadspace(ns: argparse.Namespace) -> int:
     except InputError as err:
         raise _renamed(err, _DEADSPACE_OPTIONS) from None
     if ns.json:
-        print(json.dumps(dead_space_to_dict(result), indent=2, ensure_ascii=False, allow_nan=False))
+        print_json(dead_space_to_dict(result))
     else:
         print(dead_space_to_text(result))
     return 0

@@ -389,50 +389,42 @@ def _free_name(exists, name: str) -> str:
         n += 1
 
 
+def _merge_entries(lib: ClinicLibrary, entries, kind: str, on_conflict: str, added: list, same: list,
+                   conflicts: list) -> ClinicLibrary:
+    """Merge one kind of entry ('part' or 'preset') into ``lib``; appends to the report lists."""
+    for entry in entries:
+        find, add = (lib.part, lib.with_part) if kind == "part" else (lib.preset, lib.with_preset)
+        mine = find(entry.name)
+        if mine is None:
+            lib = add(entry)
+            added.append(f"{kind} '{entry.name}'")
+        elif replace(mine, name=name_key(mine.name)) == replace(entry, name=name_key(entry.name)):
+            same.append(f"{kind} '{entry.name}'")
+        else:
+            if on_conflict == "rename":
+                new = _free_name(lambda n, find=find: find(n) is not None, entry.name)
+                lib = add(replace(entry, name=new))
+                what = f"imported as '{new}'"
+            elif on_conflict == "replace":
+                lib = add(entry, replace_existing=True)
+                what = "replaced by the file's entry (as chosen)"
+            else:
+                what = "kept this machine's entry"
+            conflicts.append(Conflict(kind, entry.name, mine.summary(), entry.summary(), what))
+    return lib
+
+
 def merge(local: ClinicLibrary, incoming: ClinicLibrary, on_conflict: str = "keep") -> tuple[ClinicLibrary,
                                                                                            MergeReport]:
     """Merge ``incoming`` into ``local``. Conflicts: 'keep' the local entry (default), 'rename' the
     incoming one to "<name> (imported)", or 'replace' the local one (only when the user chose it)."""
     if on_conflict not in CONFLICT_CHOICES:
         raise InputError("on conflict", on_conflict, f"must be one of {', '.join(CONFLICT_CHOICES)}")
-    added, same, conflicts = [], [], []
-    lib = local
-    for part in incoming.parts:
-        mine = lib.part(part.name)
-        if mine is None:
-            lib = lib.with_part(part)
-            added.append(f"part '{part.name}'")
-        elif replace(mine, name=name_key(mine.name)) == replace(part, name=name_key(part.name)):
-            same.append(f"part '{part.name}'")
-        else:
-            if on_conflict == "rename":
-                new = _free_name(lambda n, lib=lib: lib.part(n) is not None, part.name)
-                lib = lib.with_part(replace(part, name=new))
-                what = f"imported as '{new}'"
-            elif on_conflict == "replace":
-                lib = lib.with_part(part, replace_existing=True)
-                what = "replaced by the file's entry (as chosen)"
-            else:
-                what = "kept this machine's entry"
-            conflicts.append(Conflict("part", part.name, mine.summary(), part.summary(), what))
-    for preset in incoming.presets:
-        mine = lib.preset(preset.name)
-        if mine is None:
-            lib = lib.with_preset(preset)
-            added.append(f"preset '{preset.name}'")
-        elif replace(mine, name=name_key(mine.name)) == replace(preset, name=name_key(preset.name)):
-            same.append(f"preset '{preset.name}'")
-        else:
-            if on_conflict == "rename":
-                new = _free_name(lambda n, lib=lib: lib.preset(n) is not None, preset.name)
-                lib = lib.with_preset(replace(preset, name=new))
-                what = f"imported as '{new}'"
-            elif on_conflict == "replace":
-                lib = lib.with_preset(preset, replace_existing=True)
-                what = "replaced by the file's entry (as chosen)"
-            else:
-                what = "kept this machine's entry"
-            conflicts.append(Conflict("preset", preset.name, mine.summary(), preset.summary(), what))
+    added: list[str] = []
+    same: list[str] = []
+    conflicts: list[Conflict] = []
+    lib = _merge_entries(local, incoming.parts, "part", on_conflict, added, same, conflicts)
+    lib = _merge_entries(lib, incoming.presets, "preset", on_conflict, added, same, conflicts)
     if not lib.clinic and incoming.clinic:
         lib = replace(lib, clinic=incoming.clinic)
     return lib, MergeReport(tuple(added), tuple(same), tuple(conflicts))

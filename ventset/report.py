@@ -3,15 +3,27 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Iterable
 from dataclasses import asdict
 
 from ventset import __version__
-from ventset.model import STRATEGY_LABELS, Plan
+from ventset.model import STRATEGY_LABELS, Caution, Plan, Resolved
 from ventset.units import fmt, gas_pressure
 
 
 def _num(x: float) -> float | None:
     return round(x, 4) if isinstance(x, float) and math.isfinite(x) else (None if isinstance(x, float) else x)
+
+
+def patient_to_dict(r: Resolved, name: str) -> dict:
+    """The "patient" block shared by the plan and adjustment JSON (mass in kg, temperature in °C)."""
+    return {"species": r.species, "species_label": r.species_label, "mass_kg": _num(r.mass_kg),
+            "lean_mass_kg": _num(r.lean_mass_kg), "body_temp_c": _num(r.body_temp_c), "name": name}
+
+
+def caution_lines(cautions: Iterable[Caution]) -> list[str]:
+    """One indented line per caution ('  [SEVERITY] code: message'), or '  none'."""
+    return [f"  [{c.severity.upper()}] {c.code}: {c.message}" for c in cautions] or ["  none"]
 
 
 def plan_to_dict(plan: Plan) -> dict:
@@ -21,9 +33,7 @@ def plan_to_dict(plan: Plan) -> dict:
     return {
         "ventset_version": __version__,
         "standing_notice": plan.standing_notice,
-        "patient": {"species": r.species, "species_label": r.species_label, "mass_kg": _num(r.mass_kg),
-                    "lean_mass_kg": _num(r.lean_mass_kg), "body_temp_c": _num(r.body_temp_c),
-                    "name": plan.request.patient.name},
+        "patient": patient_to_dict(r, plan.request.patient.name),
         "mode": r.mode,
         "strategy": r.strategy,
         "metabolism": {"metabolic_rate_w": _num(m.metabolic_rate_w), "allometric_rate_w": _num(m.allometric_rate_w),
@@ -111,7 +121,7 @@ def plan_to_text(plan: Plan, gas_unit: str = "mmHg") -> str:
         "",
         "CAUTIONS",
     ]
-    lines += [f"  [{c.severity.upper()}] {c.code}: {c.message}" for c in plan.cautions] or ["  none"]
+    lines += caution_lines(plan.cautions)
     lines += ["", "ASSUMPTIONS"]
     lines += [f"  {a.name}: {fmt(a.value) if isinstance(a.value, float) else a.value} {a.unit} — {a.source}"
               for a in plan.assumptions]

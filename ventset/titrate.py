@@ -24,7 +24,7 @@ from ventset.library import Library, Sourced, _load_toml, load_library, parse_so
 from ventset.model import STANDING_NOTICE, Caution, Limits, Plan, Request
 from ventset.physiology import deadspace, gas, metabolism
 from ventset.planner import Choice, breath_alveolar_ml, choose_settings, plan
-from ventset.report import _num
+from ventset.report import _num, caution_lines, patient_to_dict
 from ventset.resources import resource_path
 from ventset.units import check_range, fmt, parse_quantity
 
@@ -579,7 +579,7 @@ def dead_space_to_text(d: DeadSpaceMeasurement) -> str:
         if d.apparatus_ml is None or d.anatomical_ml is None:
             lines.append("  (give --apparatus-volume and --species/--mass to split off the alveolar part)")
     lines += ["", "CAUTIONS"]
-    lines += [f"  [{c.severity.upper()}] {c.code}: {c.message}" for c in d.cautions] or ["  none"]
+    lines += caution_lines(d.cautions)
     lines += ["", "NOTICE: " + d.standing_notice]
     return "\n".join(lines)
 
@@ -962,9 +962,7 @@ def adjustment_to_dict(a: Adjustment) -> dict:
     return {
         "ventset_version": __version__,
         "standing_notice": a.standing_notice,
-        "patient": {"species": r.species, "species_label": r.species_label, "mass_kg": _num(r.mass_kg),
-                    "lean_mass_kg": _num(r.lean_mass_kg), "body_temp_c": _num(r.body_temp_c),
-                    "name": a.request.patient.name},
+        "patient": patient_to_dict(r, a.request.patient.name),
         "mode": r.mode,
         "prefer": a.prefer,
         "in_use": {"tidal_volume_ml": _num(m.tidal_volume_ml), "rate_per_min": _num(m.rate_per_min),
@@ -1038,7 +1036,7 @@ def adjustment_to_text(a: Adjustment, gas_unit: str = "mmHg") -> str:
                   f"              {bands}"]
     lines += ["", "WHY"] + [f"  {s}" for s in a.rationale]
     lines += ["", "CAUTIONS"]
-    lines += [f"  [{c.severity.upper()}] {c.code}: {c.message}" for c in a.cautions] or ["  none"]
+    lines += caution_lines(a.cautions)
     lines += ["", "NOTICE: " + a.standing_notice]
     return "\n".join(lines)
 

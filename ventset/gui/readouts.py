@@ -61,6 +61,15 @@ def _text(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = Fal
     return t
 
 
+def _heading_row(outer: QVBoxLayout, title: QWidget, right: QWidget) -> None:
+    """Add a panel's heading row to ``outer``: the title on the left, ``right`` at the right edge."""
+    head = QHBoxLayout()
+    head.addWidget(title)
+    head.addStretch(1)
+    head.addWidget(right)
+    outer.addLayout(head)
+
+
 class NoticeBanner(QFrame):
     """The standing notice, always on screen."""
 
@@ -237,13 +246,9 @@ class SettingsPanel(QFrame):
         self.setObjectName("settings-panel")
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
-        head = QHBoxLayout()
         self.title = _label(self, "Recommended starting settings", 1.2, bold=True, name="settings-title")
         self.stale_tag = _label(self, "", 1.0, bold=True, name="settings-stale")
-        head.addWidget(self.title)
-        head.addStretch(1)
-        head.addWidget(self.stale_tag)
-        outer.addLayout(head)
+        _heading_row(outer, self.title, self.stale_tag)
         grid = QGridLayout()
         sp = self.fontMetrics().height() // 3
         grid.setSpacing(sp)
@@ -366,13 +371,9 @@ class CautionsPanel(QFrame):
         self.setObjectName("cautions-panel")
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
-        head = QHBoxLayout()
         self.title = _label(self, "Cautions", 1.2, bold=True, name="cautions-title")
         self.summary = _text(self, "", 1.0, name="cautions-summary", align=Qt.AlignmentFlag.AlignRight)
-        head.addWidget(self.title)
-        head.addStretch(1)
-        head.addWidget(self.summary)
-        outer.addLayout(head)
+        _heading_row(outer, self.title, self.summary)
         self.stale = _label(self, "", 0.95, bold=True, wrap=True, name="cautions-stale")
         self.stale.setVisible(False)
         outer.addWidget(self.stale)
