@@ -195,3 +195,21 @@ def test_reservoir_bag_is_about_six_tidal_volumes(vt, bag):
     from ventset.planner import reservoir_bag_l
 
     assert reservoir_bag_l(vt, 6.0) == bag
+
+
+def test_rate_range_scales_with_mass_in_birds(library):
+    # Lasiewski & Calder 1971: bird breath rate ∝ M^-0.31, so a 35 g budgerigar's usual range is
+    # (0.035/0.4)^-0.31 = 2.13 × the range listed for a 400 g parrot.
+    sp = library.species["psittacine"]
+    small, ref = sp.rate_span_for(0.035), sp.rate_span_for(0.4)
+    assert small.max / ref.max == pytest.approx((0.035 / 0.4) ** -0.31, rel=1e-9)
+    assert (ref.min, ref.max) == (sp.rate_per_min.min, sp.rate_per_min.max)
+    p = plan(Request(Patient("psittacine", 0.035)), library)
+    assert p.ventilation.target_reached and p.ventilation.rate_per_min <= small.max + 1e-9
+
+
+def test_rate_range_scales_with_mass_in_dogs(library):
+    # Stahl 1967: mammalian breath rate ∝ M^-0.26; a 3 kg dog's range sits above a 60 kg dog's.
+    sp = library.species["dog"]
+    assert sp.rate_span_for(3).min > sp.rate_span_for(20).min > sp.rate_span_for(60).min
+    assert sp.rate_span_for(3).max / sp.rate_span_for(60).max == pytest.approx(20 ** 0.26, rel=1e-9)

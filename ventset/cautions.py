@@ -185,10 +185,11 @@ def outside_species_range(x: Context) -> list[Caution]:
         out.append(_c("caution", "VT_OUTSIDE_RANGE",
                       f"Tidal volume {fmt(vt_kg)} mL/kg is outside the usual {fmt(sp.tidal_volume_ml_kg.min)}–"
                       f"{fmt(sp.tidal_volume_ml_kg.max)} mL/kg for {sp.label}.", vt_ml_kg=vt_kg))
-    if not sp.rate_per_min.min - 1e-9 <= v.rate_per_min <= sp.rate_per_min.max + 1e-9:
+    rates = sp.rate_span_for(lean)
+    if not rates.min - 1e-9 <= v.rate_per_min <= rates.max + 1e-9:
         out.append(_c("caution", "RATE_OUTSIDE_RANGE",
-                      f"Rate {fmt(v.rate_per_min)}/min is outside the usual {fmt(sp.rate_per_min.min)}–"
-                      f"{fmt(sp.rate_per_min.max)}/min for {sp.label}.", rate_per_min=v.rate_per_min))
+                      f"Rate {fmt(v.rate_per_min)}/min is outside the usual {fmt(rates.min)}–"
+                      f"{fmt(rates.max)}/min for {sp.label} of {fmt(lean)} kg.", rate_per_min=v.rate_per_min))
     return out
 
 

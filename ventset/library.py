@@ -92,6 +92,17 @@ class Species:
     mechanics_reliable: bool
     notes: tuple[Note, ...]
     inspiratory_time_s: Sourced | None = None
+    rate_scaling: tuple[float, float, str] | None = None  # (reference mass kg, exponent, source)
+
+    def rate_span_for(self, mass_kg: float) -> Span:
+        """The usual rate range at this mass: the listed range × (M/M_ref)^b when the entry scales with mass."""
+        r = self.rate_per_min
+        if self.rate_scaling is None:
+            return r
+        ref, b, source = self.rate_scaling
+        k = (mass_kg / ref) ** b
+        return Span(r.min * k, r.max * k, r.start * k,
+                    f"{r.source}; at {mass_kg:.3g} kg scaled by (M/{ref:g} kg)^{b:g}: {source}")
 
     def matches(self, text: str) -> bool:
         """True if ``text`` (case-insensitive) occurs in the key, label or an alias."""
@@ -215,6 +226,17 @@ def _group(key: str, t: dict) -> Group:
                  r.sourced("q10", 1.0, 5.0))
 
 
+def _rate_scaling(r: _Reader, t: dict) -> tuple[float, float, str] | None:
+    if "rate_mass_scaling" not in t:
+        return None
+    sc = r.table("rate_mass_scaling")
+    ref = r.number(sc, "rate_mass_scaling", "reference_mass_kg")
+    b = r.number(sc, "rate_mass_scaling", "exponent")
+    if ref <= 0 or not -1.0 <= b <= 0.0:
+        raise r.fail("rate_mass_scaling", "needs reference_mass_kg > 0 and -1 <= exponent <= 0")
+    return ref, b, r.source(sc, "rate_mass_scaling")
+
+
 def _species(key: str, t: dict, groups: dict[str, Group]) -> Species:
     r = _Reader(f"species.toml species '{key}'", t)
     gkey = r.text("group")
@@ -268,6 +290,7 @@ def _species(key: str, t: dict, groups: dict[str, Group]) -> Species:
         default_mode=r.text("default_mode", ("volume", "pressure")),
         mechanics_reliable=r.flag("mechanics_reliable"), notes=tuple(notes),
         inspiratory_time_s=r.sourced("inspiratory_time_s", 0.05, 10) if "inspiratory_time_s" in t else None,
+        rate_scaling=_rate_scaling(r, t),
     )
     if sp.resistance_coefficient <= 0:
         raise r.fail("resistance_cmh2o_l_s", "coefficient must be positive")

@@ -307,7 +307,7 @@ def plan(request: Request, library: Library | None = None) -> Plan:
         raise InputError("Inspiratory time", t.ti_s, "give an inspiratory time or an I:E, not both")
 
     # --- the limits and the choice ------------------------------------------------
-    vt_span, rate_span = sp.tidal_volume_ml_kg, sp.rate_per_min
+    vt_span, rate_span = sp.tidal_volume_ml_kg, sp.rate_span_for(lean)
     vt_lo_kg, vt_hi_kg = vt_span.min, vt_span.max
     rate_lo, rate_hi = rate_span.min, rate_span.max
     used("Tidal volume range", f"{fmt(vt_lo_kg)}–{fmt(vt_hi_kg)}", "mL/kg", vt_span.source)
