@@ -76,3 +76,18 @@ def test_fmt_leading_zero_no_trailing_zero(x, s):
 def test_parse_quantity_plain_number_rejects_unit():
     with pytest.raises(InputError):
         parse_quantity("3 kg", "", "I:E")
+
+
+@pytest.mark.parametrize(("text", "expected"), [
+    ("expected PaCO2 68.3 mmHg (hypercapnia)", "expected PaCO2 9.1 kPa (hypercapnia)"),
+    ("inside the usual 35–45 mmHg.", "inside the usual 4.7–6 kPa."),
+    ("EtCO2 reads 12-38 mmHg below PaCO2", "EtCO2 reads 1.6-5.1 kPa below PaCO2"),
+    ("limit 20 cmH2O", "limit 20 cmH2O"),
+    ("default -5 mmHg", "default -0.67 kPa"),
+])
+def test_gas_pressures_in_messages_follow_the_chosen_unit(text, expected):
+    # 1 kPa = 7.500615758 mmHg (conventional mmHg, 133.322387415 Pa).
+    from ventset.units import gas_units_in_text
+
+    assert gas_units_in_text(text, "kPa") == expected
+    assert gas_units_in_text(text, "mmHg") == text

@@ -8,7 +8,7 @@ from dataclasses import asdict
 
 from ventset import __version__
 from ventset.model import STRATEGY_LABELS, Caution, Plan, Resolved
-from ventset.units import fmt, gas_pressure
+from ventset.units import fmt, gas_pressure, gas_units_in_text
 
 
 def _num(x: float) -> float | None:
@@ -21,9 +21,10 @@ def patient_to_dict(r: Resolved, name: str) -> dict:
             "lean_mass_kg": _num(r.lean_mass_kg), "body_temp_c": _num(r.body_temp_c), "name": name}
 
 
-def caution_lines(cautions: Iterable[Caution]) -> list[str]:
+def caution_lines(cautions: Iterable[Caution], gas_unit: str = "mmHg") -> list[str]:
     """One indented line per caution ('  [SEVERITY] code: message'), or '  none'."""
-    return [f"  [{c.severity.upper()}] {c.code}: {c.message}" for c in cautions] or ["  none"]
+    return [f"  [{c.severity.upper()}] {c.code}: {gas_units_in_text(c.message, gas_unit)}" for c in cautions] or [
+        "  none"]
 
 
 def plan_to_dict(plan: Plan) -> dict:
@@ -121,7 +122,7 @@ def plan_to_text(plan: Plan, gas_unit: str = "mmHg") -> str:
         "",
         "CAUTIONS",
     ]
-    lines += caution_lines(plan.cautions)
+    lines += caution_lines(plan.cautions, gas_unit)
     lines += ["", "ASSUMPTIONS"]
     lines += [f"  {a.name}: {fmt(a.value) if isinstance(a.value, float) else a.value} {a.unit} — {a.source}"
               for a in plan.assumptions]

@@ -26,7 +26,7 @@ from ventset.physiology import deadspace, gas, metabolism
 from ventset.planner import Choice, breath_alveolar_ml, choose_settings, plan
 from ventset.report import _num, caution_lines, patient_to_dict
 from ventset.resources import resource_path
-from ventset.units import check_range, fmt, parse_quantity
+from ventset.units import check_range, fmt, gas_units_in_text, parse_quantity
 
 PREFERENCES = ("rate", "tidal_volume", "both")
 _ONLY = {"rate": "Changing only the rate", "tidal_volume": "Changing only the tidal volume",
@@ -1034,9 +1034,9 @@ def adjustment_to_text(a: Adjustment, gas_unit: str = "mmHg") -> str:
         lines += ["", f"OXYGENATION   PaO2 {g(o.pao2_mmhg)} at FiO2 {fmt(o.fio2)}: PAO2 {g(o.alveolar_po2_mmhg)}, "
                       f"A–a gradient {g(o.aa_gradient_mmhg)}, PaO2/FiO2 {fmt(o.pf_ratio_mmhg)} mmHg",
                   f"              {bands}"]
-    lines += ["", "WHY"] + [f"  {s}" for s in a.rationale]
+    lines += ["", "WHY"] + [f"  {gas_units_in_text(s, gas_unit)}" for s in a.rationale]
     lines += ["", "CAUTIONS"]
-    lines += caution_lines(a.cautions)
+    lines += caution_lines(a.cautions, gas_unit)
     lines += ["", "NOTICE: " + a.standing_notice]
     return "\n".join(lines)
 

@@ -155,3 +155,22 @@ def gas_pressure(mmhg: float, unit: str) -> str:
     if unit == "kPa":
         return f"{fmt(mmhg_to_kpa(mmhg), 3)} kPa"
     return f"{fmt(mmhg, 3)} mmHg"
+
+
+_MMHG_SPAN = re.compile(r"(?<![\w.])(-?\d+(?:\.\d+)?)(\s*(?:–|-|to)\s*)(-?\d+(?:\.\d+)?)\s*mmHg\b")
+_MMHG_ONE = re.compile(r"(?<![\w.])(-?\d+(?:\.\d+)?)\s*mmHg\b")
+
+
+def gas_units_in_text(text: str, unit: str) -> str:
+    """Rewrite gas pressures written as "N mmHg" (or "A–B mmHg") in ``unit``; unchanged for mmHg.
+
+    Core messages carry gas pressures in mmHg; this converts them at the edge for a reader who chose kPa.
+    """
+    if unit != "kPa" or "mmHg" not in text:
+        return text
+
+    def kpa(number: str) -> str:
+        return fmt(mmhg_to_kpa(float(number)), 2)
+
+    text = _MMHG_SPAN.sub(lambda m: f"{kpa(m.group(1))}{m.group(2)}{kpa(m.group(3))} kPa", text)
+    return _MMHG_ONE.sub(lambda m: f"{kpa(m.group(1))} kPa", text)

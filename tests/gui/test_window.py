@@ -111,6 +111,8 @@ def test_switching_gas_units_changes_no_value(qtbot, window):
     assert window.form.rows["target-paco2"].unit.currentData() == "kPa"
     assert "kPa" in window.status.expect.text()
     assert "kPa" in window.derived.values["paco2"][2].text()
+    shown = [msg for _sev, _code, msg in window.cautions.shown()]
+    assert any("kPa" in m for m in shown) and not any("mmHg" in m for m in shown)  # cautions follow the unit
     window.gas_actions["mmHg"].trigger()
     settle(window)
     assert window.form.rows["target-paco2"].edit.text() == "45"

@@ -19,7 +19,7 @@ from datetime import datetime
 
 from ventset import __version__
 from ventset.model import Plan
-from ventset.units import fmt, gas_pressure
+from ventset.units import fmt, gas_pressure, gas_units_in_text
 
 PAPERS = ("A4", "Letter")
 DPI = 300
@@ -323,7 +323,7 @@ def render_plan(painter, page_w_pt: float, page_h_pt: float, dpi: float, plan: P
     y += 3
     y += sh.text(left, y, width, "CAUTIONS", sh.font(8.5, bold=True))
     room = bottom - bottom_block - derived_h - min_assumptions_h - y - 5
-    bodies = [f"{c.severity.upper()}: {c.message}  ({c.code})" for c in plan.cautions]
+    bodies = [f"{c.severity.upper()}: {gas_units_in_text(c.message, gas_unit)}  ({c.code})" for c in plan.cautions]
     omit_note_h = 12.0
     for size in (8.0, 7.4, 6.8):
         fonts = [sh.font(size, bold=c.severity == "danger") for c in plan.cautions]

@@ -27,7 +27,7 @@ from ventset.glossary import tooltip
 from ventset.gui.text import Reading, Text
 from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours, severity_pixmap
 from ventset.model import STANDING_NOTICE, STRATEGY_LABELS, Plan
-from ventset.units import fmt, gas_pressure, mmhg_to_kpa
+from ventset.units import fmt, gas_pressure, gas_units_in_text, mmhg_to_kpa
 
 
 def gas(mmhg: float, unit: str) -> tuple[str, str]:
@@ -394,14 +394,14 @@ class CautionsPanel(QFrame):
         self.theme = theme
         self.stale.setStyleSheet(f"color: {theme.danger};")
 
-    def show_plan(self, plan: Plan) -> None:
+    def show_plan(self, plan: Plan, gas_unit: str = "mmHg") -> None:
         cautions = plan.cautions
         while len(self.rows) < len(cautions):
             row = CautionRow(self.body)
             self.list.insertWidget(len(self.rows), row)
             self.rows.append(row)
         for row, c in zip(self.rows, cautions, strict=False):
-            row.show_caution(c.severity, c.code, c.message, self.theme)
+            row.show_caution(c.severity, c.code, gas_units_in_text(c.message, gas_unit), self.theme)
             row.setVisible(True)
         for row in self.rows[len(cautions):]:
             row.setVisible(False)

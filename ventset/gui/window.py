@@ -310,7 +310,7 @@ class MainWindow(QMainWindow):
         self.status.set_current(True)
         self.settings_panel.show_plan(plan, gas)
         self.settings_panel.set_stale(False)
-        self.cautions.show_plan(plan)
+        self.cautions.show_plan(plan, gas)
         self.cautions.set_stale(False)
         self.derived.show_plan(plan, gas)
         self.assumptions.show_plan(plan)
