@@ -213,3 +213,14 @@ def test_rate_range_scales_with_mass_in_dogs(library):
     sp = library.species["dog"]
     assert sp.rate_span_for(3).min > sp.rate_span_for(20).min > sp.rate_span_for(60).min
     assert sp.rate_span_for(3).max / sp.rate_span_for(60).max == pytest.approx(20 ** 0.26, rel=1e-9)
+
+
+def test_both_vt_and_rate_fixed_are_evaluated_as_entered(library):
+    # Alveolar ventilation equation: PaCO2 = VCO2·K(T)/(f·(VT(1 − f_alv) − VD_fixed)).
+    p = plan(dog(strategy=Strategy(vt_ml_kg=12.0, rate_per_min=10.0)), library)
+    v, d = p.ventilation, p.dead_space
+    assert (v.tidal_volume_ml, v.rate_per_min) == (240.0, 10.0)
+    va = 10.0 * (240.0 * 0.9 - (d.total_ml - d.alveolar_ml))
+    assert v.expected_paco2_mmhg == pytest.approx(p.metabolism.vco2_ml_min * gas.alveolar_constant_mmhg(38.5) / va)
+    codes = {c.code for c in p.cautions}
+    assert "SETTINGS_FIXED" in codes and "TARGET_UNREACHABLE" not in codes and "LIMIT_BINDING" not in codes

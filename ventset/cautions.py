@@ -22,6 +22,7 @@ LIMIT_WORDS = {
     "vt_max": "the species' largest usual tidal volume",
     "vt_min": "the species' smallest usual tidal volume",
     "pressure_limit": "the pressure limit",
+    "fixed_by_user": "the tidal volume and rate entered",
     "pressure_limit_below_vt_min": "the pressure limit, which allows less than the smallest usual tidal volume",
 }
 
@@ -126,9 +127,31 @@ def short_inspiration_pressure_mode(x: Context) -> list[Caution]:
                f"rather than {fmt(pr.driving_cmh2o)}.", ti_s=v.ti_s, tau_s=pr.time_constant_s)]
 
 
+def settings_fixed(x: Context) -> list[Caution]:
+    v = x.plan.ventilation
+    if "fixed_by_user" not in x.binding:
+        return []
+    lean = x.plan.resolved.lean_mass_kg
+    band = x.species.paco2_target_mmhg
+    d = x.plan.dead_space
+    vd_fixed = d.total_ml - d.alveolar_ml
+    eff = v.tidal_volume_ml * (1 - x.plan.resolved.alveolar_dead_space_fraction) - vd_fixed
+    if not math.isfinite(v.expected_paco2_mmhg) or eff <= 0:
+        return []  # VT_NOT_ABOVE_DEAD_SPACE says it
+    need = v.alveolar_ml_min / eff
+    within = band.min <= v.expected_paco2_mmhg <= band.max
+    return [_c("info" if within else "caution", "SETTINGS_FIXED",
+               f"Tidal volume ({fmt(v.tidal_volume_ml / lean)} mL/kg) and rate ({fmt(v.rate_per_min)}/min) are both "
+               f"fixed as entered: expected PaCO2 {fmt(v.expected_paco2_mmhg)} mmHg against a target of "
+               f"{fmt(v.target_paco2_mmhg)} mmHg" + (f" (inside the usual {fmt(band.min)}–{fmt(band.max)} mmHg)"
+                                                    if within else "")
+               + f". The target needs {fmt(need)}/min at this tidal volume. Clear one of them to let ventset solve.",
+               expected_mmhg=v.expected_paco2_mmhg, target_mmhg=v.target_paco2_mmhg)]
+
+
 def target_unreachable(x: Context) -> list[Caution]:
     v = x.plan.ventilation
-    if v.target_reached:
+    if v.target_reached or "fixed_by_user" in x.binding:
         return []
     limits = " and ".join(LIMIT_WORDS.get(b, b) for b in x.binding if b in LIMIT_WORDS)
     d, lean = x.plan.dead_space, x.plan.resolved.lean_mass_kg
@@ -166,7 +189,7 @@ def target_unreachable(x: Context) -> list[Caution]:
 
 def limit_moved_the_plan(x: Context) -> list[Caution]:
     v = x.plan.ventilation
-    if not v.target_reached or not x.binding:
+    if not v.target_reached or not x.binding or "fixed_by_user" in x.binding:
         return []
     lean = x.plan.resolved.lean_mass_kg
     limits = " and ".join(LIMIT_WORDS.get(b, b) for b in x.binding)
@@ -309,8 +332,9 @@ def custom_species(x: Context) -> list[Caution]:
 
 
 RULES: tuple[Callable[[Context], list[Caution]], ...] = (
-    tidal_volume_below_dead_space, target_unreachable, plateau_above_limit, apparatus_share, short_expiration,
-    driving_pressure, compressible_volume, outside_species_range, limit_moved_the_plan, oxygenation,
+    tidal_volume_below_dead_space, target_unreachable, settings_fixed, plateau_above_limit, apparatus_share,
+    short_expiration, driving_pressure, compressible_volume, outside_species_range, limit_moved_the_plan,
+    oxygenation,
     body_temperature, metabolic_plausibility, peep_high, gradient_unreliable, small_patient_capnography,
     short_inspiration_pressure_mode, mechanics_rough, no_tube_entered, custom_species, species_notes,
 )

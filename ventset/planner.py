@@ -329,8 +329,15 @@ def plan(request: Request, library: Library | None = None) -> Plan:
         if s.vt_ml_kg is None:
             used("Starting tidal volume", per_kg, "mL/kg", vt_span.source)
         pref_vt, pref_rate = per_kg * lean, None
-    choice = choose_settings(va, vd_fixed, f_alv, vt_lo_kg * lean, vt_hi_kg * lean, rate_lo, rate_hi,
-                             vt_pressure_max, pref_vt, pref_rate)
+    if s.vt_ml_kg is not None and s.rate_per_min is not None:
+        # Both fixed by the clinician: evaluate exactly these settings; the cautions say where they land.
+        fixed_vt = s.vt_ml_kg * lean
+        eff = breath_alveolar_ml(fixed_vt, vd_fixed, f_alv)
+        exact = eff > 0 and math.isclose(s.rate_per_min * eff, va, rel_tol=1e-9)
+        choice = Choice(fixed_vt, s.rate_per_min, exact, ("fixed_by_user",), fixed_vt, s.rate_per_min)
+    else:
+        choice = choose_settings(va, vd_fixed, f_alv, vt_lo_kg * lean, vt_hi_kg * lean, rate_lo, rate_hi,
+                                 vt_pressure_max, pref_vt, pref_rate)
     vt, rate = choice.vt_ml, choice.rate_per_min
     delivered_va = rate * breath_alveolar_ml(vt, vd_fixed, f_alv)
     expected = gas.paco2_mmhg_from_va(vco2, delivered_va, temp) if delivered_va > 0 else math.inf

@@ -421,8 +421,7 @@ class TimelinePanel(QWidget):
         if power is not None:
             msg += (f" The plan uses the CO2 output measured at {self._time_text(e.measurement)} "
                     f"({fmt(e.vco2_ml_min)} mL/min, metabolic rate {fmt(power)} W).")
-        if which != "proposal":
-            msg += " The window's plan holds this rate and shows the tidal volume that reaches the target at it."
+        msg += " The window's plan now shows exactly these settings and what they are expected to give."
         self._set_status(msg, "info")
         for key, value in (("tidal-volume", s.tidal_volume_ml), ("rate", s.rate_per_min)):
             self.edits[key].setText(fmt(value, 4))
