@@ -529,6 +529,7 @@ class WaveformPlot(PlotCard):
             p.hideButtons()
             p.vb.disableAutoRange()
             p.setLabel("left", unit)
+            p.getAxis("left").enableAutoSIPrefix(False)  # tiny patients: no "(x0.001)" over the unit label
             if i < 2:
                 p.getAxis("bottom").setStyle(showValues=False)
             self.plots.append(p)
