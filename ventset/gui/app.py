@@ -24,7 +24,7 @@ def run(argv: list[str] | None = None) -> int:
         print("ventset: no display available (DISPLAY, WAYLAND_DISPLAY and QT_QPA_PLATFORM are unset); "
               "printing the demo plan instead.")
         sys.stdout.flush()
-        from ventset.cli import run_demo
+        from ventset.demo import run_demo
 
         return run_demo()
     from PySide6.QtCore import QTimer
@@ -58,15 +58,4 @@ def run(argv: list[str] | None = None) -> int:
             app.quit()
 
         QTimer.singleShot(0, ready)
-    else:
-        _warm_units_later()
     return app.exec()
-
-
-def _warm_units_later() -> None:
-    """Build pint's registry in the background, so the first lb or kPa entry does not stall typing."""
-    import threading
-
-    from ventset.units import registry
-
-    threading.Thread(target=registry, name="ventset-units", daemon=True).start()
