@@ -8,110 +8,19 @@ import json
 import sys
 from collections.abc import Sequence
 
-from ventset.errors import DataError, InputError, VentsetError
-from ventset.fields import FIELDS, parse_field
-from ventset.model import MODES, STRATEGIES, ApparatusPart, Circuit, Patient, Request, Strategy, Targets
-from ventset.units import parse_quantity
+from ventset.cli_support import add_request_options, option_error, print_json, request_from_args, say
+from ventset.errors import DataError, InputError, VentsetError, one_line
+
+__all__ = ["build_parser", "main", "print_json", "request_from_args", "run_demo"]
 
 # Modules that add subcommands: each defines register(sub, add_request_options) -> {name: handler},
 # and may define extend_plan(p_plan) (extra `plan` options) and after_plan(ns, request, plan).
 EXTENSIONS: tuple[str, ...] = ("ventset.cli_cases", "ventset.cli_titrate")
 
-DEMO_ARGS = ["--species", "cat", "--mass", "4.2 kg", "--name", "Pickle (demo)", "--apparatus", "hme_paediatric",
-             "--apparatus", "capnograph_mainstream_adult", "--tube-id", "4 mm", "--tube-length", "5 cm"]
-
 
 class _Parser(argparse.ArgumentParser):
     def error(self, message: str) -> None:  # one line, exit 2, no usage dump
-        self.exit(2, f"ventset: {message}\n")
-
-
-def print_json(obj: object) -> None:
-    """Print a result as strict JSON (no NaN/Infinity; non-ASCII kept) on stdout."""
-    print(json.dumps(obj, indent=2, ensure_ascii=False, allow_nan=False))
-
-
-def _add_request_options(p: argparse.ArgumentParser) -> None:
-    p.add_argument("--species", required=True, help="species key, name or alias (see 'ventset species')")
-    p.add_argument("--name", default="", help="patient name for the printout")
-    p.add_argument("--custom-species", default="", metavar="NAME",
-                   help="a species not in the library, planned with the values of --species (its base) unless "
-                        "entered; a caution says so")
-    p.add_argument("--apparatus", action="append", default=[], metavar="NAME[=VOLUME]",
-                   help="a part between Y-piece and incisors: a catalogue key (see 'ventset parts'), "
-                        "or NAME=VOLUME such as 'hme=12 mL'; repeat for each part")
-    p.add_argument("--mode", choices=MODES, help="volume or pressure (default: species)")
-    p.add_argument("--strategy", choices=STRATEGIES, default="volume_first",
-                   help="volume_first: tidal volume per kg, then rate; least_work: Otis rate, then tidal volume")
-    p.add_argument("--circuit", help="non_rebreathing, rebreathing_small_animal, ... (default: by mass)")
-    for spec in FIELDS.values():
-        p.add_argument(f"--{spec.key}", dest=spec.key.replace("-", "_"), metavar="VALUE",
-                       help=f"{spec.help} [{spec.unit or 'number'}]".replace("%", "%%"))
-
-
-def _parts(items: Sequence[str], library) -> tuple[ApparatusPart, ...]:
-    out = []
-    for item in items:
-        name, _, vol = item.partition("=")
-        name = name.strip()
-        if not name:
-            raise InputError("--apparatus", item, "needs NAME=VOLUME or a catalogue key")
-        if vol.strip():
-            volume = parse_quantity(vol, "mL", f"--apparatus {name}")
-            if volume < 0:
-                raise InputError(f"--apparatus {name}", vol, "volume must be 0 mL or more")
-            out.append(ApparatusPart(name, volume))
-        elif name in library.parts:
-            part = library.parts[name]
-            out.append(ApparatusPart(part.label, part.volume_ml.value, part.volume_ml.source))
-        elif (clinic := _clinic_part(name)) is not None:
-            out.append(clinic)
-        else:
-            raise InputError("--apparatus", item, "is not a catalogue or clinic part; give a volume, e.g. "
-                                                  "'hme=12 mL' (see 'ventset parts', 'ventset clinic-parts list')")
-    return tuple(out)
-
-
-def _clinic_part(name: str) -> ApparatusPart | None:
-    """A part from the clinic's own library (user data folder), or None."""
-    from ventset.partslib import load_clinic_library
-
-    try:
-        part = load_clinic_library().part(name)
-    except VentsetError:
-        return None
-    return part.as_apparatus() if part is not None else None
-
-
-def request_from_args(ns: argparse.Namespace, library) -> Request:
-    """Build a Request from parsed options; every quantity parsed once, here."""
-    values: dict[str, float | None] = {}
-    for spec in FIELDS.values():
-        raw = getattr(ns, spec.key.replace("-", "_"))
-        if raw is None:
-            values[spec.key] = None
-            continue
-        try:
-            values[spec.key] = parse_field(spec.key, raw)
-        except InputError as err:
-            raise InputError(f"--{spec.key}", raw, err.reason) from None
-    if values["mass"] is None:
-        raise InputError("--mass", "", "is required (e.g. '--mass 20 kg')")
-    if library.find_species(ns.species) is None:
-        raise InputError("--species", ns.species, "unknown species; run 'ventset species' for the list")
-    v = values
-    return Request(
-        patient=Patient(ns.species, v["mass"], v["lean-mass"], v["body-temperature"], v["metabolic-rate"], v["rq"],
-                        v["alveolar-dead-space"], v["compliance"], v["resistance"], ns.name,
-                        ns.custom_species),
-        circuit=Circuit(_parts(ns.apparatus, library), v["tube-id"], v["tube-length"], ns.circuit,
-                        v["compressible-volume"], ns.mode, v["sampling-flow"] or 0.0),
-        targets=Targets(paco2_mmhg=v["target-paco2"], etco2_mmhg=v["target-etco2"], gradient_mmhg=v["gradient"],
-                        peep_cmh2o=v["peep"], ie_expiratory_part=v["ie"], pressure_limit_cmh2o=v["pressure-limit"],
-                        fio2=v["fio2"], altitude_m=v["altitude"] or 0.0, barometric_mmhg=v["barometric-pressure"],
-                        ti_s=v["ti"]),
-        strategy=Strategy(ns.strategy, v["vt-per-kg"], v["rate"]),
-    )
+        self.exit(2, f"ventset: {one_line(message)}\n")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -119,7 +28,7 @@ def build_parser() -> argparse.ArgumentParser:
                      "With no command, opens the desktop window.")
     sub = parser.add_subparsers(dest="command")
     p_plan = sub.add_parser("plan", help="plan settings for one patient")
-    _add_request_options(p_plan)
+    add_request_options(p_plan)
     p_plan.add_argument("--json", action="store_true", help="print one JSON object")
     p_plan.add_argument("--gas-unit", choices=("mmHg", "kPa"), default="mmHg", help="unit for gas pressures")
     sub.add_parser("demo", help="print the plan for the demo patient")
@@ -132,7 +41,7 @@ def build_parser() -> argparse.ArgumentParser:
     handlers: dict = {}
     for name in EXTENSIONS:
         mod = importlib.import_module(name)
-        handlers.update(mod.register(sub, _add_request_options))
+        handlers.update(mod.register(sub, add_request_options))
         if hasattr(mod, "extend_plan"):
             mod.extend_plan(p_plan)
     parser.set_defaults(_handlers=handlers)
@@ -189,7 +98,9 @@ def _cmd_parts(ns: argparse.Namespace) -> int:
 
 def run_demo() -> int:
     """Print the demo patient's plan (used when no display is available)."""
-    return main(["plan", *DEMO_ARGS])
+    from ventset.demo import run_demo as print_demo
+
+    return print_demo()
 
 
 def _cmd_gui(_: argparse.Namespace) -> int:
@@ -201,8 +112,35 @@ def _cmd_gui(_: argparse.Namespace) -> int:
     return run()
 
 
+def _safe_streams() -> None:
+    """A terminal that cannot show a character (PYTHONIOENCODING=ascii:strict) gets an escape, not a crash."""
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            stream.reconfigure(errors="backslashreplace")  # type: ignore[union-attr]
+        except (AttributeError, ValueError, OSError):
+            pass
+
+
+def _options(parser: argparse.ArgumentParser, command: str | None) -> set[str]:
+    """The option strings of ``command``'s parser (to name an input error by the option typed)."""
+    for action in parser._subparsers._group_actions if parser._subparsers else ():
+        chosen = getattr(action, "choices", None) or {}
+        if command in chosen:
+            return set(chosen[command]._option_string_actions)
+    return set()
+
+
+def shown_error(err: InputError, options: set[str]) -> InputError:
+    """``err`` as the command line shows it: '--mass (Body mass): ...' when the key is an option here."""
+    if err.label.startswith("--"):
+        return err
+    option = f"--{err.key}"
+    return option_error(err, option) if option in options else err
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point; returns the exit status (2 for bad input, naming the field)."""
+    _safe_streams()
     args = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     ns = parser.parse_args(args)
@@ -211,16 +149,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         return handlers[ns.command](ns)
     except InputError as err:
-        flag = next((f"--{f.key}" for f in FIELDS.values() if f.label == err.field), None)
-        if flag and ns.command not in (None, "gui"):
-            err = InputError(f"{flag} ({err.field})", err.value, err.reason, err.unit)
-        print(f"ventset: {err}", file=sys.stderr)
+        say(str(shown_error(err, _options(parser, ns.command))))
         return 2
     except DataError as err:
-        print(f"ventset: data file problem: {err}", file=sys.stderr)
+        say(f"data file problem: {err}")
         return 2
     except VentsetError as err:
-        print(f"ventset: {err}", file=sys.stderr)
+        say(str(err))
         return 2
     except BrokenPipeError:  # output piped into `head` and closed early
         sys.stderr.close()

@@ -4,20 +4,19 @@ from __future__ import annotations
 
 import argparse
 
+from ventset.cli_support import option_error, print_json, request_from_args
 from ventset.errors import InputError
 from ventset.fields import FIELDS
 
-# Labels the core uses in InputError, and the option a user of these commands typed for each.
+# The option a user of each command typed for each input key (keys, as InputError carries them).
 _ADJUST_OPTIONS = {
-    "Tidal volume in use": "--tidal-volume", "Rate in use": "--rate", "Measured PaCO2": "--measured-paco2",
-    "Measured EtCO2": "--measured-etco2", "Measured PaO2": "--measured-pao2", "SpO2": "--measured-spo2",
-    **{spec.label: f"--{spec.key}" for spec in FIELDS.values()},
+    **{key: f"--{key}" for key in FIELDS}, "tidal-volume": "--tidal-volume", "rate": "--rate",
+    "paco2": "--measured-paco2", "etco2": "--measured-etco2", "pao2": "--measured-pao2", "spo2": "--measured-spo2",
 }
 _DEADSPACE_OPTIONS = {
-    "Measured PaCO2": "--paco2", "Measured EtCO2": "--etco2", "Mixed-expired PCO2": "--mixed-expired-co2",
-    "Mean alveolar PCO2": "--alveolar-co2", "Tidal volume in use": "--tidal-volume",
-    "Apparatus volume": "--apparatus-volume", "Body mass": "--mass", "Lean (ideal) mass": "--lean-mass",
-    "species": "--species",
+    "paco2": "--paco2", "etco2": "--etco2", "mixed-expired-co2": "--mixed-expired-co2",
+    "alveolar-co2": "--alveolar-co2", "tidal-volume": "--tidal-volume", "apparatus-volume": "--apparatus-volume",
+    "mass": "--mass", "lean-mass": "--lean-mass", "species": "--species",
 }
 
 
@@ -70,15 +69,15 @@ def _value(key: str, raw: str | None, option: str) -> float | None:
     try:
         return parse_measured(key, raw)
     except InputError as err:
-        raise InputError(option, raw, err.reason) from None
+        raise option_error(err, option) from None
 
 
 def _renamed(err: InputError, options: dict[str, str]) -> InputError:
-    return InputError(options.get(err.field, err.field), err.value, err.reason, err.unit)
+    option = options.get(err.key)
+    return option_error(err, option) if option else err
 
 
 def _cmd_adjust(ns: argparse.Namespace) -> int:
-    from ventset.cli import print_json, request_from_args
     from ventset.library import load_library
     from ventset.titrate import Measurement, adjust, adjustment_to_dict, adjustment_to_text
 
@@ -114,7 +113,6 @@ def _cmd_adjust(ns: argparse.Namespace) -> int:
 
 
 def _cmd_deadspace(ns: argparse.Namespace) -> int:
-    from ventset.cli import print_json
     from ventset.fields import parse_field
     from ventset.library import load_library
     from ventset.model import Patient, Request

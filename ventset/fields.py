@@ -6,9 +6,12 @@ is left to the cautions. No Qt here: the GUI picks widgets from ``kind``.
 
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
-from ventset.errors import InputError
+from ventset.errors import InputError, register_labels
+from ventset.model import ApparatusPart, Request, request_from_dict
+from ventset.textpolicy import MAX_PARTS, check_count, check_text
 from ventset.units import check_range, parse_quantity
 
 
@@ -35,7 +38,8 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
               "Lean or ideal body mass for an obese patient; tidal volume, lung size and metabolism follow it "
               "(common practice). Default: the body mass."),
     FieldSpec("body-temperature", "Body temperature", "patient.body_temp_c", "degC", ("degC", "degF"), 0.0, 45.0,
-              "Core body temperature; corrects metabolic rate (Q10) and water vapour pressure. "
+              "Core body temperature; corrects metabolic rate (Q10) and water vapour pressure. Fahrenheit only as "
+              "'degF' or '°F' (a bare F or C is refused as ambiguous). "
               "Default: the species' normal value (reptiles: middle of the preferred temperature zone).",
               lo_open=False),
     FieldSpec("metabolic-rate", "Metabolic rate", "patient.metabolic_rate_w", "W", ("W", "kcal/day", "kJ/h"),
@@ -93,26 +97,36 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
               "Breath rate to hold; tidal volume then follows from the target.", group="strategy"),
 )}
 
+# The inputs that are not numbers, by key: where each goes in a Request, and its text rule (ventset.textpolicy).
+TEXT_INPUTS: dict[str, str] = {"species": "patient.species", "name": "patient.name",
+                               "custom-species": "patient.custom_species", "mode": "circuit.mode",
+                               "circuit": "circuit.circuit_type", "strategy": "strategy.name"}
+TEXT_POLICY = {"species": "species-text", "name": "name", "custom-species": "custom-species", "mode": "choice",
+               "circuit": "choice", "strategy": "choice"}
+INPUT_LABELS = {"species": "Species", "name": "Patient name", "custom-species": "Custom species", "mode": "Mode",
+                "circuit": "Circuit type", "strategy": "Strategy", "apparatus": "Apparatus"}
+PARTS_PATH = "circuit.parts"
+register_labels({"name": "Patient name", "custom-species": "Custom species",
+                 **{k: f.label for k, f in FIELDS.items()}})
 
-def parse_field(key: str, text: object) -> float:
-    """Parse and range-check one input by its key; raises InputError naming the field."""
-    spec = FIELDS[key]
-    if key == "fio2":
-        value = parse_quantity(text, "", spec.label) if _plain(text) else parse_quantity(text, "percent",
-                                                                                          spec.label) / 100
-    elif spec.unit == "":
-        value = parse_quantity(text, "", spec.label)
+
+
+def parse_field(field: FieldSpec | str, text: object) -> float:
+    """Parse and range-check one input (a FieldSpec, or a key of FIELDS); raises InputError naming it.
+
+    Works for any FieldSpec (the plan's inputs here, the titration's measured values): a bare number is read in
+    the spec's internal unit; ``units == ("", "percent")`` means a fraction that may be typed as '50 %'.
+    """
+    spec = FIELDS[field] if isinstance(field, str) else field
+    if spec.unit == "" and "percent" in spec.units and not _plain(text):
+        value = parse_quantity(text, "percent", spec) / 100
     else:
-        value = parse_quantity(text, spec.unit, spec.label)
-    return check_range(value, spec.lo, spec.hi, spec.label, _shown_unit(spec.unit), lo_open=spec.lo_open)
+        value = parse_quantity(text, spec.unit, spec)
+    return check_range(value, spec.lo, spec.hi, spec, spec.unit, lo_open=spec.lo_open)
 
 
 def _plain(text: object) -> bool:
     return isinstance(text, int | float) or str(text).strip().replace(".", "", 1).lstrip("+-").isdigit()
-
-
-def _shown_unit(unit: str) -> str:
-    return {"degC": "°C", "cmH2O*s/L": "cmH2O/(L/s)"}.get(unit, unit)
 
 
 def get_path(request: object, path: str) -> object:
@@ -124,11 +138,93 @@ def get_path(request: object, path: str) -> object:
 
 
 def validate_request(request: object) -> None:
-    """Check every numeric field of a Request against its hard limits; raises InputError."""
+    """Check a Request against every field's hard limits and the text policy; raises InputError naming the field."""
     for spec in FIELDS.values():
         value = get_path(request, spec.path)
         if value is None:
             continue
         if isinstance(value, bool) or not isinstance(value, int | float):
-            raise InputError(spec.label, value, "must be a number")
-        check_range(float(value), spec.lo, spec.hi, spec.label, _shown_unit(spec.unit), lo_open=spec.lo_open)
+            raise InputError(spec, value, "must be a number")
+        check_range(float(value), spec.lo, spec.hi, spec, spec.unit, lo_open=spec.lo_open)
+    for key, path in TEXT_INPUTS.items():
+        value = get_path(request, path)
+        if value is not None:
+            check_text(TEXT_POLICY[key], value, label=INPUT_LABELS[key])
+    _check_parts(get_path(request, "circuit.parts"))
+
+
+def _check_parts(parts: object) -> None:
+    if not isinstance(parts, tuple | list):
+        raise InputError("apparatus", type(parts).__name__, "must be a list of parts")
+    check_count("apparatus", len(parts), MAX_PARTS)
+    for part in parts:
+        check_text("part-name", getattr(part, "name", None))
+        check_text("part-source", getattr(part, "source", None))
+
+
+def request_from_inputs(values: Mapping[str, object], parts: Sequence[ApparatusPart] = (), *, library=None,
+                        check_ranges: bool = True) -> tuple[Request | None, list[InputError]]:
+    """The one request builder: each input, by key, goes where its spec's path says.
+
+    ``values`` maps FIELDS keys to typed text or numbers (parsed and range-checked with :func:`parse_field`;
+    with ``check_ranges=False`` numbers are placed as they are, as a case file stores them) and TEXT_INPUTS keys
+    to text (checked by the text policy; with a ``library`` the species must be in it and is stored by its key).
+    None means "not entered". Returns (request, []) or (None, every error found, field by field).
+    """
+    errors: list[InputError] = []
+    data: dict[str, dict[str, object]] = {"patient": {}, "circuit": {}, "targets": {}, "strategy": {}}
+
+    def put(path: str, value: object) -> None:
+        section, attr = path.split(".", 1)
+        data[section][attr] = value
+
+    for key, spec in FIELDS.items():
+        raw = values.get(key)
+        if raw is None:
+            continue
+        try:
+            put(spec.path, parse_field(spec, raw) if check_ranges else raw)
+        except InputError as err:
+            errors.append(err)
+    if values.get("mass") is None and "mass" not in {e.key for e in errors}:
+        errors.append(InputError("mass", "", "is needed: enter the weighed body mass (e.g. '20 kg')"))
+    for key, path in TEXT_INPUTS.items():
+        try:
+            text = _text_input(key, values.get(key), library)
+        except InputError as err:
+            errors.append(err)
+            continue
+        if text is not None:
+            put(path, text)
+    try:
+        _check_parts(tuple(parts))
+    except InputError as err:
+        errors.append(err)
+    put(PARTS_PATH, [{"name": p.name, "volume_ml": p.volume_ml, "source": p.source} for p in parts])
+    if errors:
+        return None, errors
+    return request_from_dict(data), []
+
+
+def _text_input(key: str, value: object, library) -> str | None:
+    if value is None:
+        return "volume_first" if key == "strategy" else None
+    text = check_text(TEXT_POLICY[key], value, label=INPUT_LABELS[key])
+    if key in ("mode", "circuit") and not text:
+        return None
+    if key == "strategy" and not text:
+        return "volume_first"
+    if key == "species" and library is not None:
+        sp = library.find_species(text) if text.strip() else None
+        if sp is None:
+            raise InputError("species", text, "is not in the library; type part of a name and pick from the list "
+                                              "(all species: 'ventset species')")
+        return sp.key
+    return text
+
+
+def inputs_from_request(request: Request) -> tuple[dict[str, object], tuple[ApparatusPart, ...]]:
+    """The inverse of :func:`request_from_inputs`: every input of ``request`` by key (None when not entered)."""
+    values: dict[str, object] = {spec.key: get_path(request, spec.path) for spec in FIELDS.values()}
+    values.update({key: get_path(request, path) for key, path in TEXT_INPUTS.items()})
+    return values, tuple(request.circuit.parts)

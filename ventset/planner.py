@@ -150,7 +150,7 @@ def _timing(rate: float, ti_entered: float | None, ie_entered: float | None, sp:
     cycle = 60.0 / rate
     if ti_entered is not None:
         if ti_entered >= cycle * 0.8:
-            raise InputError("Inspiratory time", f"{fmt(ti_entered)} s",
+            raise InputError("ti", f"{fmt(ti_entered)} s",
                              f"leaves too little time to breathe out at {fmt(rate)}/min (cycle {fmt(cycle)} s)")
         ti = ti_entered
     elif ie_entered is not None:
@@ -191,9 +191,9 @@ def plan(request: Request, library: Library | None = None) -> Plan:
         notes.append(Assumption(name, round(value, 4) if isinstance(value, float) else value, unit, source))
 
     try:
-        check_range(p.mass_kg, sp.mass_kg.min, sp.mass_kg.max, "Body mass", "kg")
+        check_range(p.mass_kg, sp.mass_kg.min, sp.mass_kg.max, "mass", "kg")
     except InputError as err:
-        raise InputError(err.field, err.value, f"{err.reason} for {sp.label} ({sp.mass_kg.source})", "kg") from None
+        raise InputError(err, err.value, f"{err.reason} for {sp.label} ({sp.mass_kg.source})", "kg") from None
     species_label = sp.label
     custom = p.custom_species.strip()
     if custom:
@@ -202,7 +202,7 @@ def plan(request: Request, library: Library | None = None) -> Plan:
              "its values are used for everything not entered")
     lean = p.lean_mass_kg if p.lean_mass_kg is not None else p.mass_kg
     if lean > p.mass_kg:
-        raise InputError("Lean (ideal) mass", f"{fmt(lean)} kg",
+        raise InputError("lean-mass", f"{fmt(lean)} kg",
                          f"must not exceed the body mass of {fmt(p.mass_kg)} kg")
     if p.lean_mass_kg is None:
         used("Lean mass", lean, "kg", "taken as the body mass (no lean mass entered)")
@@ -237,7 +237,7 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     else:
         power_w = p.metabolic_rate_w
     if power_w <= 0:
-        raise InputError("Metabolic rate", power_w, "must be above 0 W")
+        raise InputError("metabolic-rate", power_w, "must be above 0 W")
     vo2 = metabolism.vo2_ml_min(power_w, rq)
     vco2 = rq * vo2
     met = Metabolism(power_w, allometric_w, vo2, vco2, rq, p.metabolic_rate_w is not None)
@@ -247,12 +247,12 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     if t.gradient_mmhg is None:
         used("PaCO2 − EtCO2 gradient", gradient, "mmHg", sp.gradient_mmhg.source)
     if t.paco2_mmhg is not None and t.etco2_mmhg is not None:
-        raise InputError("Target EtCO2", t.etco2_mmhg, "give a target PaCO2 or a target EtCO2, not both")
+        raise InputError("target-etco2", t.etco2_mmhg, "give a target PaCO2 or a target EtCO2, not both")
     if t.paco2_mmhg is not None:
         target = t.paco2_mmhg
     elif t.etco2_mmhg is not None:
         target = t.etco2_mmhg + gradient
-        check_range(target, 10.0, 120.0, "Target EtCO2 + gradient", "mmHg")
+        check_range(target, 10.0, 120.0, "target-etco2", "mmHg", label="Target EtCO2 + gradient")
     else:
         target = sp.paco2_target_mmhg.start
         used("Target PaCO2", target, "mmHg", sp.paco2_target_mmhg.source)
@@ -269,13 +269,14 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     used("Share of anatomical dead space kept after intubation", sp.intubated_fraction, "", sp.anatomical_source)
     tube = 0.0
     if (c.tube_id_mm is None) != (c.tube_length_cm is None):
-        missing = "Tube beyond incisors" if c.tube_length_cm is None else "Tube internal diameter"
+        missing = "tube-length" if c.tube_length_cm is None else "tube-id"
         raise InputError(missing, "", "enter both tube internal diameter and length beyond the incisors, or neither")
     if c.tube_id_mm is not None and c.tube_length_cm is not None:
         tube = deadspace.tube_volume_ml(c.tube_id_mm, c.tube_length_cm)
     for part in c.parts:
         if not math.isfinite(part.volume_ml) or part.volume_ml < 0:
-            raise InputError(f"Apparatus '{part.name}'", part.volume_ml, "volume must be 0 mL or more")
+            raise InputError("apparatus", part.volume_ml, "volume must be 0 mL or more",
+                             label=f"Apparatus '{part.name}'")
     apparatus = sum(part.volume_ml for part in c.parts)
     vd_fixed = anat + apparatus + tube
     f_alv = (p.alveolar_dead_space_fraction if p.alveolar_dead_space_fraction is not None
@@ -302,9 +303,9 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     if t.pressure_limit_cmh2o is None:
         used("Pressure limit", limit, "cmH2O", sp.pip_limit_cmh2o.source)
     if limit <= peep:
-        raise InputError("Pressure limit", f"{fmt(limit)} cmH2O", f"must be above PEEP ({fmt(peep)} cmH2O)")
+        raise InputError("pressure-limit", f"{fmt(limit)} cmH2O", f"must be above PEEP ({fmt(peep)} cmH2O)")
     if t.ti_s is not None and t.ie_expiratory_part is not None:
-        raise InputError("Inspiratory time", t.ti_s, "give an inspiratory time or an I:E, not both")
+        raise InputError("ti", t.ti_s, "give an inspiratory time or an I:E, not both")
 
     # --- the limits and the choice ------------------------------------------------
     vt_span, rate_span = sp.tidal_volume_ml_kg, sp.rate_span_for(lean)

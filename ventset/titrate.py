@@ -87,10 +87,10 @@ def parse_measured(key: str, text: object) -> float:
     spec = MEASURED_FIELDS[key]
     if key == "fio2":
         plain = isinstance(text, int | float) or str(text).strip().replace(".", "", 1).lstrip("+").isdigit()
-        value = parse_quantity(text, "", spec.label) if plain else parse_quantity(text, "percent", spec.label) / 100
+        value = parse_quantity(text, "", spec) if plain else parse_quantity(text, "percent", spec) / 100
     else:
-        value = parse_quantity(text, spec.unit, spec.label)
-    return check_range(value, spec.lo, spec.hi, spec.label, {"1/min": "/min", "percent": "%"}.get(spec.unit,
+        value = parse_quantity(text, spec.unit, spec)
+    return check_range(value, spec.lo, spec.hi, spec, {"1/min": "/min", "percent": "%"}.get(spec.unit,
                                                                                                    spec.unit),
                        lo_open=spec.lo_open)
 
@@ -100,8 +100,8 @@ def _check(key: str, value: float | None) -> None:
         return
     spec = MEASURED_FIELDS[key]
     if isinstance(value, bool) or not isinstance(value, int | float):
-        raise InputError(spec.label, value, "must be a number")
-    check_range(float(value), spec.lo, spec.hi, spec.label, spec.unit, lo_open=spec.lo_open)
+        raise InputError(spec, value, "must be a number")
+    check_range(float(value), spec.lo, spec.hi, spec, spec.unit, lo_open=spec.lo_open)
 
 
 def parse_time(text: str, earlier: tuple[Measurement, ...] = ()) -> tuple[float, str]:
@@ -463,7 +463,7 @@ def measured_dead_space(paco2_mmhg: float, mixed_expired_mmhg: float, alveolar_p
     _check("etco2", etco2_mmhg)
     _check("tidal-volume", tidal_volume_ml)
     _check("apparatus-volume", apparatus_ml)
-    label = MEASURED_FIELDS["mixed-expired-co2"].label
+    label = MEASURED_FIELDS["mixed-expired-co2"]
     if mixed_expired_mmhg >= paco2_mmhg:
         raise InputError(label, f"{fmt(mixed_expired_mmhg)} mmHg",
                          f"must be below the PaCO2 ({fmt(paco2_mmhg)} mmHg): expired gas is diluted by dead space")
@@ -693,7 +693,7 @@ def _evaluate(request: Request, base: Plan, vt_ml: float, rate: float, vd_fixed:
     try:
         return plan(replace(request, patient=patient, strategy=strategy), library)
     except InputError as err:  # e.g. an entered Ti that does not fit the proposed rate
-        raise InputError(err.field, err.value, f"{err.reason} (at the proposed {fmt(vt_ml)} mL and {fmt(rate)}/min)",
+        raise InputError(err, err.value, f"{err.reason} (at the proposed {fmt(vt_ml)} mL and {fmt(rate)}/min)",
                          err.unit) from None
 
 
@@ -728,9 +728,9 @@ def adjust(request: Request, measurement: Measurement, prefer: str = "rate",
     validate_measurement(measurement)
     m = measurement
     if m.paco2_mmhg is None and m.etco2_mmhg is None:
-        raise InputError(MEASURED_FIELDS["paco2"].label, "", "is needed (or a measured EtCO2)")
+        raise InputError(MEASURED_FIELDS["paco2"], "", "is needed (or a measured EtCO2)")
     if m.paco2_mmhg is None and m.etco2_mmhg == 0:
-        raise InputError(MEASURED_FIELDS["etco2"].label, "0 mmHg",
+        raise InputError(MEASURED_FIELDS["etco2"], "0 mmHg",
                          "no CO2 detected: check for disconnection, oesophageal intubation or cardiac arrest first; "
                          "there is nothing to adjust from")
     out: list[Caution] = []
@@ -754,7 +754,7 @@ def adjust(request: Request, measurement: Measurement, prefer: str = "rate",
     vt0, f0 = m.tidal_volume_ml, m.rate_per_min
     eff0 = breath_alveolar_ml(vt0, vd_fixed, f_alv)
     if eff0 <= 0:
-        raise InputError(MEASURED_FIELDS["tidal-volume"].label, f"{fmt(vt0)} mL",
+        raise InputError(MEASURED_FIELDS["tidal-volume"], f"{fmt(vt0)} mL",
                          f"is not above the dead space the model has for this patient and circuit "
                          f"({fmt(vd_fixed + f_alv * vt0)} mL at this volume); check the tidal volume and the "
                          "apparatus list, or enter a measured alveolar dead-space fraction")
@@ -769,7 +769,7 @@ def adjust(request: Request, measurement: Measurement, prefer: str = "rate",
         paco2 = m.etco2_mmhg + gradient
         source = f"EtCO2 {fmt(m.etco2_mmhg)} + gradient {fmt(gradient)} mmHg"
         if paco2 < MEASURED_FIELDS["paco2"].lo:
-            raise InputError(MEASURED_FIELDS["etco2"].label, f"{fmt(m.etco2_mmhg)} mmHg",
+            raise InputError(MEASURED_FIELDS["etco2"], f"{fmt(m.etco2_mmhg)} mmHg",
                              f"plus the gradient ({fmt(gradient)} mmHg) gives PaCO2 {fmt(paco2)} mmHg, too low to "
                              "adjust from; check the capnograph and the gradient")
         where = gradient_source or ("entered" if request.targets.gradient_mmhg is not None else "species default")

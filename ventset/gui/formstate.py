@@ -18,9 +18,9 @@ import dataclasses
 import re
 
 from ventset.errors import InputError
-from ventset.fields import FIELDS, get_path, parse_field
+from ventset.fields import FIELDS, TEXT_INPUTS, get_path, parse_field, request_from_inputs
 from ventset.library import Library
-from ventset.model import Patient, Request, request_from_dict
+from ventset.model import ApparatusPart, Patient, Request
 from ventset.units import convert, fmt, parse_quantity
 
 TEXT, UNIT, EXACT, CHOICE = "text:", "unit:", "exact:", "choice:"
@@ -162,64 +162,53 @@ def part_volume(part: tuple) -> float:
     name, text = part[0], part[1]
     if len(part) > 3 and part[3] is not None and edit_text(part[3]) == text:
         return float(part[3])
-    value = parse_quantity(text, "mL", f"Apparatus '{name}'")
+    label = f"Apparatus '{name}'"
+    try:
+        value = parse_quantity(text, "mL", "apparatus")
+    except InputError as err:
+        raise err.named(label) from None
     if value < 0:
-        raise InputError(f"Apparatus '{name}'", text, "volume must be 0 mL or more")
+        raise InputError("apparatus", text, "volume must be 0 mL or more", label=label)
     return value
 
 
 def request_from_state(state: dict, library: Library) -> tuple[Request | None, list[InputError]]:
-    """Build the Request the form describes, or return every input error found (field by field)."""
+    """Build the Request the form describes through the one request builder (ventset.fields), or return every
+    input error found (field by field)."""
     errors: list[InputError] = []
-    data: dict[str, dict] = {"patient": {}, "circuit": {}, "targets": {}, "strategy": {}}
-    sp = library.find_species(state.get("species", "")) if state.get("species", "").strip() else None
-    if sp is None:
-        errors.append(InputError("species", state.get("species", ""),
-                                 "is not in the library; type part of a name and pick from the list"))
-    data["patient"].update(species=sp.key if sp else "", name=state.get("name", ""))
-    if state.get("custom_species", "").strip() and "custom_species" in {f.name for f in dataclasses.fields(Patient)}:
-        data["patient"]["custom_species"] = state["custom_species"].strip()
-    for key, spec in FIELDS.items():
+    values: dict[str, object] = {"species": state.get("species", ""), "name": state.get("name", ""),
+                                 "custom-species": state.get("custom_species", "").strip(),
+                                 "mode": state.get("mode") or None, "circuit": state.get("circuit") or None,
+                                 "strategy": state.get("strategy") or "volume_first"}
+    for key in FIELDS:
         if not is_active(state, key):
             continue
         try:
-            value = field_value(state, key)
+            values[key] = field_value(state, key)
         except InputError as err:
             errors.append(err)
-            continue
-        if value is None:
-            if key == "mass":
-                errors.append(InputError(spec.label, "", "is needed; enter the weighed body mass"))
-            continue
-        section, attr = spec.path.split(".", 1)
-        data[section][attr] = value
+            values[key] = None
     parts = []
     for part in state.get("parts", ()):
         try:
-            parts.append({"name": part[0], "volume_ml": part_volume(part), "source": part[2]})
+            parts.append(ApparatusPart(part[0], part_volume(part), part[2]))
         except InputError as err:
             errors.append(err)
-    data["circuit"].update(parts=parts, mode=state.get("mode") or None, circuit_type=state.get("circuit") or None)
-    data["strategy"]["name"] = state.get("strategy") or "volume_first"
-    if errors:
+    request, more = request_from_inputs(values, parts, library=library)
+    errors += [e for e in more if not (e.key == "mass" and any(x.key == "mass" for x in errors))]
+    if errors or request is None:
         return None, errors
-    return request_from_dict(data), []
+    return request, []
 
 
-_BY_LABEL = {spec.label: key for key, spec in FIELDS.items()}
-_EXTRA = {"Target EtCO2 + gradient": "target-etco2", "species": "species", "mode": "mode", "circuit": "circuit",
-          "strategy": "strategy", "--species": "species"}
+# Keys of form elements that are not FIELDS: where an InputError with such a key is marked.
+OTHER_KEYS = frozenset({*TEXT_INPUTS, "apparatus"})
 
 
 def error_key(err: InputError) -> str | None:
-    """Which form element an InputError belongs to (a FIELDS key, 'species', 'parts', ...), if any."""
-    f = str(err.field)
-    if f in _BY_LABEL:
-        return _BY_LABEL[f]
-    if f in _EXTRA:
-        return _EXTRA[f]
-    if f.startswith("--") and f[2:] in FIELDS:
-        return f[2:]
-    if f.startswith("Apparatus") or f.startswith("--apparatus"):
-        return "parts"
+    """Which form element an InputError belongs to: its key when the form has such an element, else None."""
+    if err.key == "apparatus":
+        return "parts"  # the parts editor
+    if err.key in FIELDS or err.key in OTHER_KEYS:
+        return err.key
     return None

@@ -69,7 +69,6 @@ ENTRY_FIELDS = (
     ("note", "Note", "", "optional"),
 )
 GAS_KEYS = ("etco2", "paco2", "pao2")
-_LABEL_KEY = {spec.label: key for key, spec in MEASURED_FIELDS.items()}
 
 
 @dataclass(frozen=True)
@@ -380,7 +379,7 @@ class TimelinePanel(QWidget):
         try:
             entries = record_measurement(self._entries, request, m, self.prefer.currentData(), self.library)
         except InputError as err:
-            key = _LABEL_KEY.get(err.field)
+            key = err.key if err.key in self.edits else None
             if key is not None:
                 self._show_errors({key: err.reason})
             else:

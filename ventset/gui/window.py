@@ -72,10 +72,10 @@ def install_extensions(window: MainWindow) -> list[str]:
 
 
 def demo_request(library: Library) -> Request:
-    """The demo patient the window opens with (the same as ``ventset demo``)."""
-    from ventset.cli import DEMO_ARGS, build_parser, request_from_args
+    """The demo patient the window opens with (the same as ``ventset demo``; data in ventset.demo)."""
+    from ventset.demo import demo_request as core_demo
 
-    return request_from_args(build_parser().parse_args(["plan", *DEMO_ARGS]), library)
+    return core_demo(library)
 
 
 class MainWindow(QMainWindow):
