@@ -101,11 +101,13 @@ def _dead_pid() -> int:
 
 
 def test_stale_temps_are_cleaned_but_live_and_unrelated_files_kept(tmp_path):
+    # Temporary files are named .<name>.<host>.<pid>.<random>.tmp; these were made on this machine.
+    host = storage.host_tag()
     target = tmp_path / "case.json"
-    dead = tmp_path / f".case.json.{_dead_pid()}.abc123.tmp"
-    live = tmp_path / f".case.json.{os.getpid()}.def456.tmp"
-    old_live = tmp_path / f".case.json.{os.getpid()}.ghi789.tmp"
-    other = tmp_path / f".other.json.{_dead_pid()}.abc.tmp"
+    dead = tmp_path / f".case.json.{host}.{_dead_pid()}.abc123.tmp"
+    live = tmp_path / f".case.json.{host}.{os.getpid()}.def456.tmp"
+    old_live = tmp_path / f".case.json.{host}.{os.getpid()}.ghi789.tmp"
+    other = tmp_path / f".other.json.{host}.{_dead_pid()}.abc.tmp"
     for p in (dead, live, old_live, other):
         p.write_bytes(b"partial")
     hour_ago = time.time() - storage.STALE_TEMP_AGE_S - 10
@@ -115,10 +117,32 @@ def test_stale_temps_are_cleaned_but_live_and_unrelated_files_kept(tmp_path):
     assert live.exists() and other.exists()
 
 
+def test_another_machines_temp_file_is_never_removed_while_it_may_be_in_use(tmp_path):
+    # A shared folder: a process id says nothing about another machine, so only age may clean its files.
+    target = tmp_path / "case.json"
+    foreign = tmp_path / f".case.json.other-clinic-pc.{_dead_pid()}.abc.tmp"
+    legacy = tmp_path / f".case.json.{_dead_pid()}.abc.tmp"  # older naming, without a host
+    old_foreign = tmp_path / f".case.json.other-clinic-pc.{_dead_pid()}.def.tmp"
+    for p in (foreign, legacy, old_foreign):
+        p.write_bytes(b"partial")
+    hour_ago = time.time() - storage.STALE_TEMP_AGE_S - 10
+    os.utime(old_foreign, (hour_ago, hour_ago))
+    assert storage.clean_stale_temps(target) == [old_foreign]
+    assert foreign.exists() and legacy.exists()
+
+
+def test_temp_file_names_carry_the_host_and_process(tmp_path, monkeypatch):
+    seen = []
+    real = os.replace
+    monkeypatch.setattr(os, "replace", lambda a, b: seen.append(Path(a).name) or real(a, b))
+    storage.atomic_write_bytes(tmp_path / "a.json", b"x")
+    assert seen[0].startswith(f".a.json.{storage.host_tag()}.{os.getpid()}.") and seen[0].endswith(".tmp")
+
+
 def test_read_json_cleans_stale_temps_beside_the_file(tmp_path):
     target = tmp_path / "case.json"
     target.write_text("{}")
-    temp = tmp_path / f".case.json.{_dead_pid()}.x1.tmp"
+    temp = tmp_path / f".case.json.{storage.host_tag()}.{_dead_pid()}.x1.tmp"
     temp.write_bytes(b"{\"half")
     assert storage.read_json(target, 1000) == {}
     assert not temp.exists()

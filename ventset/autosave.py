@@ -16,7 +16,8 @@ from datetime import UTC, datetime
 from pathlib import Path
 
 from ventset import storage
-from ventset.cases import Case, case_from_dict, case_to_dict, now_iso
+from ventset.cases import Case, case_from_dict, check_reopens, now_iso
+from ventset.textpolicy import bad_character
 
 AUTOSAVE_INTERVAL_S = 10
 FORMAT = "ventset-autosave"
@@ -34,9 +35,10 @@ def autosave_dir() -> Path:
     """The autosave folder inside the user data folder (created if missing)."""
     folder = storage.data_dir() / "autosave"
     try:
-        folder.mkdir(parents=True, exist_ok=True)
+        folder.mkdir(mode=0o700, parents=True, exist_ok=True)
     except OSError as exc:
-        raise storage.WriteError(folder, f"the autosave folder cannot be created ({exc.strerror})") from None
+        raise storage.WriteError(folder, f"the autosave folder cannot be created ({storage.os_reason(exc)})") \
+            from None
     return folder
 
 
@@ -66,7 +68,11 @@ class AutosaveSession:
 
     def __init__(self, folder: Path | None = None) -> None:
         self.folder = Path(folder) if folder is not None else autosave_dir()
-        self.folder.mkdir(parents=True, exist_ok=True)
+        try:
+            self.folder.mkdir(mode=0o700, parents=True, exist_ok=True)
+        except OSError as exc:
+            raise storage.WriteError(self.folder, f"the autosave folder cannot be created "
+                                                  f"({storage.os_reason(exc)})") from None
         stamp = datetime.now(UTC).strftime("%Y%m%dT%H%M%S")
         self.id = f"{stamp}-{os.getpid()}-{secrets.token_hex(3)}"
         self.path = self.folder / f"session-{self.id}.json"
@@ -95,9 +101,13 @@ class AutosaveSession:
         ``unparsed`` holds what is typed in fields that do not parse yet (field key → text), so that
         recovery can put it back even though the case holds only the last valid inputs.
         """
+        try:
+            case_data = check_reopens(case)
+        except ValueError as exc:
+            raise storage.WriteError(self.path, f"the case would not open again ({exc}); not autosaved") from None
         record = {"format": FORMAT, "schema_version": SCHEMA_VERSION, "pid": os.getpid(),
-                  "source_path": str(source_path) if source_path else None, "case": case_to_dict(case),
-                  "unparsed": dict(unparsed or {})}
+                  "source_path": str(source_path) if source_path else None, "case": case_data,
+                  "unparsed": _kept_unparsed(unparsed)}
         try:
             body = storage.dumps(record)
         except (ValueError, TypeError) as exc:
@@ -108,8 +118,8 @@ class AutosaveSession:
         try:
             self._take_lock()
         except OSError as exc:
-            raise storage.WriteError(self.lock_path, exc.strerror or "cannot be locked") from None
-        storage.atomic_write_bytes(self.path, storage.dumps(record))
+            raise storage.WriteError(self.lock_path, storage.os_reason(exc)) from None
+        storage.atomic_write_bytes(self.path, storage.dumps(record), private=True)
         self._last = body
         return True
 
@@ -120,12 +130,15 @@ class AutosaveSession:
             self.path.unlink()
         except FileNotFoundError:
             pass
+        except OSError as exc:
+            raise storage.WriteError(self.path, f"the autosave cannot be removed ({storage.os_reason(exc)})") \
+                from None
 
     def close(self, keep_unsaved: bool = True) -> None:
         """End the session (clean exit). Unsaved work goes to autosave/dismissed unless ``keep_unsaved`` is False."""
         if self.closed:
             return
-        if self.path.exists():
+        if _exists(self.path):
             if keep_unsaved:
                 _to_dismissed(self.path)
             else:
@@ -172,15 +185,35 @@ def _read(path: Path) -> Recovery:
         case, _ = case_from_dict(data.get("case"))
         source = data.get("source_path")
         updated = data.get("updated_at")
-        raw = data.get("unparsed")
-        unparsed = {k: v for k, v in raw.items() if isinstance(v, str) and len(v) < 500} \
-            if isinstance(raw, dict) else {}
-        return Recovery(path, case, Path(source) if isinstance(source, str) and source else None,
+        unparsed = _kept_unparsed(data.get("unparsed"))
+        source_ok = isinstance(source, str) and source and len(source) < 4096 and bad_character(source) is None
+        return Recovery(path, case, Path(source) if source_ok else None,
                         updated if isinstance(updated, str) else "", unparsed=unparsed)
     except storage.StorageError as exc:
         return Recovery(path, None, None, "", exc.reason)
     except ValueError as exc:
         return Recovery(path, None, None, "", str(exc))
+    except (TypeError, AttributeError, KeyError, OverflowError, RecursionError) as exc:  # a last guard
+        return Recovery(path, None, None, "", f"it holds a value of the wrong kind ({type(exc).__name__})")
+
+
+MAX_UNPARSED = 500
+
+
+def _kept_unparsed(raw: object) -> dict[str, str]:
+    """What was typed in fields that do not parse yet, as autosave keeps it: short single-line text only (the
+    same rule when writing and reading, so what is written is read back)."""
+    if not isinstance(raw, dict):
+        return {}
+    return {k: v for k, v in raw.items() if isinstance(k, str) and len(k) < 100 and isinstance(v, str)
+            and len(v) < MAX_UNPARSED and bad_character(v) is None and bad_character(k) is None}
+
+
+def _exists(path: Path) -> bool:
+    try:
+        return path.exists()
+    except OSError:
+        return False
 
 
 def _pid_of(path: Path) -> int:
@@ -194,8 +227,12 @@ def _pid_of(path: Path) -> int:
 def find_recoverable(folder: Path | None = None, exclude: AutosaveSession | None = None) -> list[Recovery]:
     """Sessions whose window is gone, newest first (unreadable ones too, with the reason)."""
     folder = Path(folder) if folder is not None else autosave_dir()
-    found = []
-    for path in sorted(folder.glob("session-*.json"), reverse=True):
+    found: list[Recovery] = []
+    try:
+        paths = sorted(folder.glob("session-*.json"), reverse=True)
+    except OSError:
+        return found
+    for path in paths:
         if exclude is not None and path == exclude.path:
             continue
         if _lock_free(path.with_suffix(".lock"), _pid_of(path)):
@@ -212,7 +249,7 @@ def _to_dismissed(path: Path) -> None:
         for old in sorted(dest_dir.glob("session-*.json"), reverse=True)[KEEP_DISMISSED:]:
             old.unlink()
     except OSError as exc:
-        raise storage.WriteError(path, f"cannot move the autosave aside ({exc.strerror})") from None
+        raise storage.WriteError(path, f"cannot move the autosave aside ({storage.os_reason(exc)})") from None
 
 
 def _remove_lock(rec: Recovery) -> None:
@@ -226,7 +263,7 @@ def _remove_lock(rec: Recovery) -> None:
 
 def dismiss(rec: Recovery) -> None:
     """The user declined to restore: move the session to autosave/dismissed (kept, not deleted)."""
-    if rec.path.exists():
+    if _exists(rec.path):
         _to_dismissed(rec.path)
     _remove_lock(rec)
 

@@ -18,22 +18,15 @@ from pathlib import Path
 
 from ventset import __version__, storage
 from ventset.errors import InputError, VentsetError
-from ventset.model import (
-    ApparatusPart,
-    Circuit,
-    Patient,
-    Request,
-    Strategy,
-    Targets,
-    request_from_dict,
-    request_to_dict,
-)
+from ventset.fields import FIELDS, TEXT_INPUTS, request_from_inputs
+from ventset.model import ApparatusPart, Circuit, Patient, Request, Strategy, Targets, request_to_dict
+from ventset.textpolicy import MAX_PARTS, TEXT_FIELDS, check_text
 
 FORMAT = "ventset-case"
 SCHEMA_VERSION = 1
 SUFFIX = ".ventcase"
 MAX_CASE_BYTES = 10_000_000
-MAX_TEXT = 20_000
+MAX_TEXT = TEXT_FIELDS["case-note"].max_chars
 MAX_EARLIER_PLANS = 20
 RECENT_FILE = "recent.json"
 RECENT_MAX = 10
@@ -257,7 +250,24 @@ def _number(value: object, where: str) -> float:
     return number
 
 
-def _field_checker(annotation: str) -> Callable[[object, str], object]:
+# The text rule (ventset.textpolicy) of each text field of a stored request, by (record, field).
+_TEXT_RULE = {("Patient", "name"): "name", ("Patient", "custom_species"): "custom-species",
+              ("Patient", "species"): "species-text", ("ApparatusPart", "name"): "part-name",
+              ("ApparatusPart", "source"): "part-source"}
+
+
+def _policy_text(rule: str) -> Callable[[object, str], object]:
+    def check(value: object, where: str) -> str:
+        if not isinstance(value, str):
+            raise _Bad(where, f"must be text (got {_type_name(value)})")
+        try:
+            return check_text(rule, value)
+        except InputError as err:
+            raise _Bad(where, err.reason) from None
+    return check
+
+
+def _field_checker(annotation: str, rule: str = "choice") -> Callable[[object, str], object]:
     """A checker for a model field from its annotation text (model.py uses postponed annotations)."""
     ann = annotation.replace(" ", "")
     nullable = ann.endswith("|None")
@@ -265,7 +275,7 @@ def _field_checker(annotation: str) -> Callable[[object, str], object]:
     if base == "float":
         check: Callable[[object, str], object] = _number
     elif base == "str":
-        check = lambda v, w: _text(v, w, 500)
+        check = _policy_text(rule)
     elif base == "tuple[ApparatusPart,...]":
         check = _parts
     else:
@@ -288,33 +298,39 @@ def _record(cls: type, data: object, where: str) -> dict:
             if f.default is MISSING and f.default_factory is MISSING:
                 raise _Bad(f"{where}.{name}", "is missing")
             continue
-        out[name] = _field_checker(str(f.type))(data[name], f"{where}.{name}")
+        rule = _TEXT_RULE.get((cls.__name__, name), "choice")
+        out[name] = _field_checker(str(f.type), rule)(data[name], f"{where}.{name}")
     return out
 
 
 def _parts(value: object, where: str) -> list[dict]:
     if not isinstance(value, list):
         raise _Bad(where, f"must be a list (got {_type_name(value)})")
-    if len(value) > 100:
-        raise _Bad(where, "holds more than 100 parts")
+    if len(value) > MAX_PARTS:
+        raise _Bad(where, f"holds more than {MAX_PARTS} parts")
     return [_record(ApparatusPart, p, f"{where}[{i}]") for i, p in enumerate(value)]
 
 
 def request_from_case_dict(data: object, where: str = "request") -> Request:
-    """Check a stored request field by field and rebuild it (raises _Bad naming the field)."""
+    """Check a stored request field by field and rebuild it through the one request builder (raises _Bad)."""
     if not isinstance(data, dict):
         raise _Bad(where, f"must be an object (got {_type_name(data)})")
-    parts = {"patient": Patient, "circuit": Circuit, "targets": Targets, "strategy": Strategy}
-    unknown = sorted(set(data) - set(parts))
+    sections = {"patient": Patient, "circuit": Circuit, "targets": Targets, "strategy": Strategy}
+    unknown = sorted(set(data) - set(sections))
     if unknown:
         raise _Bad(f"{where}.{unknown[0]}", "is not a field this version knows")
     if "patient" not in data:
         raise _Bad(f"{where}.patient", "is missing")
-    clean = {key: _record(cls, data[key], f"{where}.{key}") for key, cls in parts.items() if key in data}
-    try:
-        return request_from_dict(clean)
-    except (TypeError, KeyError, ValueError) as exc:  # pragma: no cover - the checks above should catch all
-        raise _Bad(where, f"cannot be read ({exc})") from None
+    clean = {key: _record(cls, data[key], f"{where}.{key}") for key, cls in sections.items() if key in data}
+    values: dict[str, object] = {}
+    for key, path in [*((k, f.path) for k, f in FIELDS.items()), *TEXT_INPUTS.items()]:
+        section, attr = path.split(".", 1)
+        values[key] = clean.get(section, {}).get(attr)
+    parts = tuple(ApparatusPart(**p) for p in clean.get("circuit", {}).get("parts", ()))
+    request, errors = request_from_inputs(values, parts, check_ranges=False)
+    if request is None:
+        raise _Bad(where, errors[0].message())
+    return request
 
 
 def _timestamp(value: object, where: str) -> str:
@@ -325,6 +341,18 @@ def _timestamp(value: object, where: str) -> str:
         except ValueError:
             raise _Bad(where, f"must be an ISO 8601 date and time (got {text[:30]!r})") from None
     return text
+
+
+def _checked_timeline(timeline: object) -> object:
+    """The stored record as it is, after checking each entry's note by the text policy (the rest is read by
+    ventset.titrate when the case is opened, and kept unchanged if it cannot be)."""
+    entries = timeline.get("entries") if isinstance(timeline, dict) else timeline
+    if isinstance(entries, list):
+        for i, entry in enumerate(entries):
+            m = entry.get("measurement") if isinstance(entry, dict) else None
+            if isinstance(m, dict) and "note" in m and m["note"] is not None:
+                _policy_text("record-note")(m["note"], f"timeline.entries[{i}].measurement.note")
+    return timeline
 
 
 _V1_KEYS = {"format", "schema_version", "ventset_version", "species_version", "created_at", "saved_at", "note",
@@ -354,8 +382,8 @@ def _case_from_v1(data: dict) -> Case:
         saved_at=_timestamp(data.get("saved_at", ""), "saved_at"),
         ventset_version=_text(data.get("ventset_version", ""), "ventset_version", 40),
         species_version=_text(data.get("species_version", ""), "species_version", 40),
-        note=_text(data.get("note", ""), "note"),
-        timeline=timeline,
+        note=_policy_text("case-note")(data.get("note", ""), "note"),
+        timeline=_checked_timeline(timeline),
         earlier_plans=tuple(earlier[-MAX_EARLIER_PLANS:]),
     )
 
@@ -447,6 +475,9 @@ def case_from_dict(data: object) -> tuple[Case, int | None]:
 # disk
 # --------------------------------------------------------------------------------------------
 
+_SHAPE_ERRORS = (TypeError, AttributeError, KeyError, OverflowError, RecursionError)
+
+
 def load_case(path: os.PathLike | str) -> LoadedCase:
     """Read a case file; raises CaseError with one clear line. The file is never changed."""
     target = Path(path)
@@ -455,12 +486,21 @@ def load_case(path: os.PathLike | str) -> LoadedCase:
         case, old = case_from_dict(data)
     except ValueError as exc:
         raise CaseError(target, str(exc)) from None
+    except _SHAPE_ERRORS as exc:  # a last guard: any value of the wrong kind is a refusal, never a traceback
+        raise CaseError(target, f"it holds a value of the wrong kind ({type(exc).__name__})") from None
     return LoadedCase(case, target, old)
+
+
+def _exists(target: Path, error: type[storage.StorageError] = CaseSaveError) -> bool:
+    try:
+        return target.exists()
+    except OSError as exc:
+        raise error(target, storage.os_reason(exc)) from None
 
 
 def _existing_version(target: Path) -> int | None:
     """Schema version of the case file at ``target``; None if there is none; raises CaseSaveError if foreign."""
-    if not target.exists():
+    if not _exists(target):
         return None
     try:
         data = storage.read_json(target, MAX_CASE_BYTES, error=CaseError)
@@ -471,15 +511,32 @@ def _existing_version(target: Path) -> int | None:
                                     "choose another name, or replace it on purpose") from None
 
 
+def check_reopens(case: Case) -> dict:
+    """The JSON layout of ``case`` if the loader would open it again; else CaseSaveError-ready ValueError."""
+    data = case_to_dict(case)
+    case_from_dict(data)
+    return data
+
+
 def save_case(path: os.PathLike | str, case: Case, *, replace_any: bool = False) -> Case:
     """Write ``case`` atomically; returns it with ``saved_at`` set.
 
     An existing file at ``path`` is replaced only if it is a ventset case (or ``replace_any``);
     a case of an older schema is first copied to ``<name>.schema<N>.bak``; a newer one is refused.
+    What the loader would refuse (a name over its limit, ...) is refused here, before anything is written.
+    A symbolic link is saved through: its target gets the case, the link stays.
     """
     target = Path(path)
-    if target.is_dir():
-        raise CaseSaveError(target, "it is a folder, not a file")
+    saved = replace(case, saved_at=now_iso(), created_at=case.created_at or now_iso())
+    try:
+        data = check_reopens(saved)
+    except ValueError as exc:
+        raise CaseSaveError(target, f"the case would not open again ({exc}); nothing was written") from None
+    try:
+        if target.is_dir():
+            raise CaseSaveError(target, "it is a folder, not a file")
+    except OSError as exc:
+        raise CaseSaveError(target, storage.os_reason(exc)) from None
     old = None
     try:
         old = _existing_version(target)
@@ -491,14 +548,16 @@ def save_case(path: os.PathLike | str, case: Case, *, replace_any: bool = False)
                                     "that version stored. Save under another name.")
     if old is not None and old < SCHEMA_VERSION:
         backup = target.with_name(f"{target.name}.schema{old}.bak")
-        if not backup.exists():
-            try:
+        try:
+            if not backup.exists():
                 storage.atomic_write_bytes(backup, target.read_bytes())
-            except (OSError, storage.StorageError) as exc:
-                raise CaseSaveError(target, f"could not keep a copy of the older file first ({exc})") from None
-    saved = replace(case, saved_at=now_iso(), created_at=case.created_at or now_iso())
+        except OSError as exc:
+            raise CaseSaveError(target, f"could not keep a copy of the older file first "
+                                        f"({storage.os_reason(exc)})") from None
+        except storage.StorageError as exc:
+            raise CaseSaveError(target, f"could not keep a copy of the older file first ({exc.reason})") from None
     try:
-        storage.atomic_write_json(target, case_to_dict(saved))
+        storage.atomic_write_json(target, data)
     except storage.StorageError as exc:
         raise CaseSaveError(target, exc.reason) from None
     return saved
@@ -513,13 +572,17 @@ def replan(case: Case, library=None) -> tuple[object | None, str, tuple[str, ...
     lib = library or load_library()
     try:
         result = make_plan(case.request, lib)
-    except (InputError, ArithmeticError) as err:
+    except (InputError, ArithmeticError, ValueError) as err:
         reason = str(err) if isinstance(err, InputError) else _internal(err)
         diffs = ("The stored inputs no longer give a plan: " + reason,) if case.plan is not None else ()
         return None, reason, diffs
     if case.plan is None:
         return result, "", ()
-    return result, "", tuple(compare_plan_dicts(case.plan, plan_to_dict(result)))
+    try:
+        diffs = tuple(compare_plan_dicts(case.plan, plan_to_dict(result)))
+    except (*_SHAPE_ERRORS, ValueError):
+        diffs = ("The stored plan is not in a form this version can compare.",)
+    return result, "", diffs
 
 
 def open_case(path: os.PathLike | str, library=None) -> OpenedCase:
@@ -551,7 +614,7 @@ def open_case(path: os.PathLike | str, library=None) -> OpenedCase:
             case_timeline(case)
         except ImportError:  # pragma: no cover - the titration module ships with ventset
             pass
-        except (VentsetError, ValueError, TypeError, KeyError) as exc:
+        except (VentsetError, ValueError, *_SHAPE_ERRORS) as exc:
             messages.append(f"The anaesthetic record in this case cannot be read by this version ({exc}); it is "
                             "kept unchanged in the file.")
     return OpenedCase(case, loaded.path, result, error, diffs, tuple(messages), loaded.migrated_from)
@@ -692,25 +755,32 @@ def recent_files() -> list[Path]:
     return [Path(p) for p in paths if isinstance(p, str) and p][:RECENT_MAX]
 
 
-def _write_recent(paths: list[Path]) -> None:
+def _write_recent(paths: list[Path]) -> str:
     try:
         storage.atomic_write_json(_recent_path(), {"format": "ventset-recent", "schema_version": 1,
-                                                   "paths": [str(p) for p in paths[:RECENT_MAX]]})
-    except storage.StorageError:
-        pass  # the recent list is a convenience; never fail a save over it
+                                                   "paths": [str(p) for p in paths[:RECENT_MAX]]}, private=True)
+    except storage.StorageError as exc:
+        return f"the list of recent cases was not updated ({exc})"
+    return ""
 
 
-def add_recent(path: os.PathLike | str) -> None:
-    """Put ``path`` at the top of the recent-files list."""
+def add_recent(path: os.PathLike | str) -> str:
+    """Put ``path`` at the top of the recent-files list; returns a warning ('' if none). Never raises: the list
+    is a convenience, and a case that was saved stays saved whatever happens to it."""
     try:
-        target = Path(path).resolve()
-    except OSError:
-        target = Path(path).absolute()
-    _write_recent([target, *(p for p in recent_files() if p != target)])
+        try:
+            target = Path(path).resolve()
+        except (OSError, RuntimeError):
+            target = Path(path).absolute()
+        return _write_recent([target, *(p for p in recent_files() if p != target)])
+    except (OSError, RuntimeError, ValueError) as exc:
+        return f"the list of recent cases was not updated ({type(exc).__name__})"
 
 
-def remove_recent(path: os.PathLike | str) -> None:
-    """Drop ``path`` from the recent-files list (e.g. after it failed to open)."""
-    target = Path(path)
-    _write_recent([p for p in recent_files() if p != target and p != target.absolute()])
-
+def remove_recent(path: os.PathLike | str) -> str:
+    """Drop ``path`` from the recent-files list (e.g. after it failed to open); returns a warning ('' if none)."""
+    try:
+        target = Path(path)
+        return _write_recent([p for p in recent_files() if p != target and p != target.absolute()])
+    except (OSError, ValueError) as exc:
+        return f"the list of recent cases was not updated ({type(exc).__name__})"

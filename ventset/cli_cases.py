@@ -9,15 +9,20 @@ from __future__ import annotations
 
 import argparse
 import json
-import sys
 from pathlib import Path
 
-from ventset import cases, partslib
+from ventset import cases, partslib, storage
+from ventset.cli_support import print_json, say
 from ventset.errors import InputError, VentsetError
 
+_say = say
 
-def _say(message: str) -> None:
-    print(f"ventset: {message}", file=sys.stderr)
+
+def _is_file(path: Path) -> bool:
+    try:
+        return path.is_file()
+    except OSError as exc:
+        raise cases.CaseSaveError(path, storage.os_reason(exc)) from None
 
 
 def register(sub, add_request_options) -> dict:
@@ -79,7 +84,7 @@ def after_plan(ns: argparse.Namespace, request, plan) -> None:
     if getattr(ns, "save", None):
         target = Path(ns.save)
         previous = None
-        if target.is_file() and not ns.replace:
+        if _is_file(target) and not ns.replace:
             try:
                 previous = cases.load_case(target).case
             except cases.CaseError:
@@ -89,8 +94,10 @@ def after_plan(ns: argparse.Namespace, request, plan) -> None:
                                                   "overwrite it, or save under another name")
         case = cases.make_case(request, plan, library=load_library(), previous=previous)
         cases.save_case(target, case, replace_any=ns.replace)
-        cases.add_recent(ns.save)
         _say(f"saved case to {ns.save}")
+        warning = cases.add_recent(ns.save)
+        if warning:
+            _say(f"warning: {warning}")
     if getattr(ns, "pdf", None):
         write_pdf(plan, ns.pdf, getattr(ns, "gas_unit", "mmHg"), Path(ns.save).name if getattr(ns, "save", None)
                   else "")
@@ -107,7 +114,6 @@ def write_pdf(plan, path: str, gas_unit: str = "mmHg", case_name: str = "") -> N
 
 
 def _cmd_show(ns: argparse.Namespace) -> int:
-    from ventset.cli import print_json
     from ventset.library import load_library
     from ventset.report import plan_to_dict, plan_to_text
 
@@ -135,25 +141,22 @@ def _cmd_show(ns: argparse.Namespace) -> int:
 
 
 def _resolve_part(text: str, clinic: partslib.ClinicLibrary, library):
-    from ventset.cli import _parts
+    def mine(name: str):
+        part = clinic.part(name)
+        return part.as_apparatus() if part is not None else None
 
-    mine = clinic.part(text.partition("=")[0]) if "=" not in text else None
-    if mine is not None:
-        return mine.as_apparatus()
-    return _parts([text], library)[0]
+    return partslib.part_from_text(text, library, mine)
 
 
 def _cmd_clinic_parts(ns: argparse.Namespace) -> int:
     from ventset.library import load_library
-    from ventset.units import parse_quantity
 
     cmd = ns.clinic_command
     lib = partslib.load_clinic_library()
     if cmd == "list":
         return _list(ns, lib)
     if cmd == "add":
-        part = partslib.ClinicPart.checked(ns.name, parse_quantity(ns.volume, "mL", "Part volume"), ns.note,
-                                           ns.measured_by, ns.measured_on)
+        part = partslib.ClinicPart.checked(ns.name, ns.volume, ns.note, ns.measured_by, ns.measured_on)
         partslib.save_clinic_library(lib.with_part(part, replace_existing=ns.replace))
         _say(f"added part '{part.name}' ({part.volume_ml:g} mL) to {partslib.library_path()}")
     elif cmd == "remove":
@@ -162,8 +165,7 @@ def _cmd_clinic_parts(ns: argparse.Namespace) -> int:
     elif cmd == "preset-add":
         library = load_library()
         parts = [_resolve_part(p, lib, library) for p in ns.part]
-        comp = None if ns.compressible_volume is None else parse_quantity(ns.compressible_volume, "mL/cmH2O",
-                                                                          "Compressible volume")
+        comp = ns.compressible_volume
         preset = partslib.CircuitPreset.checked(ns.name, parts, comp, ns.circuit, ns.note)
         partslib.save_clinic_library(lib.with_preset(preset, replace_existing=ns.replace))
         _say(f"added preset '{preset.name}' ({preset.summary()})")
@@ -171,7 +173,7 @@ def _cmd_clinic_parts(ns: argparse.Namespace) -> int:
         partslib.save_clinic_library(lib.without_preset(ns.name))
         _say(f"removed preset '{ns.name}'")
     elif cmd == "export":
-        partslib.write_library_file(lib, ns.file)
+        partslib.write_library_file(lib, ns.file, private=False)
         _say(f"exported {len(lib.parts)} parts and {len(lib.presets)} presets to {ns.file}")
     elif cmd == "import":
         report = partslib.import_file(ns.file, ns.on_conflict)

@@ -12,14 +12,16 @@ from __future__ import annotations
 
 import math
 import os
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 from datetime import date, timedelta
 from pathlib import Path
 
 from ventset import storage
 from ventset.cases import now_iso
-from ventset.errors import InputError
+from ventset.errors import InputError, register_labels, visible
 from ventset.model import ApparatusPart, Circuit
+from ventset.textpolicy import MAX_CLINIC_ENTRIES, MAX_PRESET_PARTS, TEXT_FIELDS, check_count, check_text
 
 FORMAT = "ventset-clinic-parts"
 SCHEMA_VERSION = 1
@@ -27,9 +29,10 @@ FILE_NAME = "clinic-parts.json"
 PREVIOUS_NAME = "clinic-parts.previous.json"
 MAX_BYTES = 2_000_000
 MAX_VOLUME_ML = 5000.0  # same bound as the shipped catalogue (ventset.library.parse_apparatus)
-MAX_NAME = 80
-MAX_NOTE = 500
+MAX_NAME = TEXT_FIELDS["clinic-part-name"].max_chars
+MAX_NOTE = TEXT_FIELDS["part-note"].max_chars
 CONFLICT_CHOICES = ("keep", "rename", "replace")
+register_labels({"part-volume": "Part volume", "measured-on": "Measured on", "preset-parts": "Preset parts"})
 
 
 class ClinicLibraryError(storage.StorageError):
@@ -47,45 +50,48 @@ def name_key(name: str) -> str:
     return " ".join(name.split()).casefold()
 
 
-def _clean_name(name: object, field: str) -> str:
+def _clean_name(name: object, field: str, label: str | None = None) -> str:
+    """A name with its spacing normalised (a tab or a run of spaces becomes one space), then the text policy."""
     if not isinstance(name, str):
-        raise InputError(field, name, "must be text")
-    text = " ".join(name.split())
+        raise InputError(field, type(name).__name__, "must be text", label=label)
+    text = " ".join(x for x in name.replace("\t", " ").split(" ") if x)
+    check_text(field, text, label=label)
     if not text:
-        raise InputError(field, name, "is empty; give the part a name")
-    if len(text) > MAX_NAME:
-        raise InputError(field, text, f"is longer than {MAX_NAME} characters")
-    if any(ord(ch) < 32 or 0xD800 <= ord(ch) <= 0xDFFF for ch in text):
-        raise InputError(field, text, "holds a control or invalid character")
+        raise InputError(field, name, "is empty; give it a name", label=label)
     return text
 
 
-def _clean_text(text: object, field: str, limit: int) -> str:
+def _clean_text(text: object, field: str, label: str | None = None) -> str:
     if not isinstance(text, str):
-        raise InputError(field, text, "must be text")
-    text = text.strip()
-    if len(text) > limit:
-        raise InputError(field, text, f"is longer than {limit} characters")
-    if any(0xD800 <= ord(ch) <= 0xDFFF for ch in text):
-        raise InputError(field, text, "holds an invalid character")
-    return text
+        raise InputError(field, type(text).__name__, "must be text", label=label)
+    return check_text(field, text.strip(), label=label)
 
 
-def _clean_volume(value: object, field: str, lo: float = 0.0, hi: float = MAX_VOLUME_ML) -> float:
+def _clean_volume(value: object, field: str, label: str | None = None) -> float:
     if isinstance(value, bool) or not isinstance(value, int | float):
         from ventset.units import parse_quantity
 
-        value = parse_quantity(value, "mL", field)
-    number = float(value)
-    if not math.isfinite(number) or not lo <= number <= hi:
-        raise InputError(field, value, f"must be between {lo:g} and {hi:g} mL")
+        try:
+            value = parse_quantity(value, "mL", field)
+        except InputError as err:
+            raise err.named(label) if label else err from None
+    try:
+        number = float(value)
+    except OverflowError:
+        number = math.inf
+    if not math.isfinite(number) or not 0.0 <= number <= MAX_VOLUME_ML:
+        raise InputError(field, value, f"must be between 0 and {MAX_VOLUME_ML:g} mL", label=label)
     return number
 
 
 def _clean_date(text: object, field: str) -> str:
-    text = _clean_text(text, field, 10)
+    if not isinstance(text, str):
+        raise InputError(field, type(text).__name__, "must be text")
+    text = text.strip()
     if not text:
         return ""
+    if len(text) > 10:
+        raise InputError(field, text, "must be a date written YYYY-MM-DD")
     try:
         day = date.fromisoformat(text)
     except ValueError:
@@ -109,9 +115,9 @@ class ClinicPart:
     def checked(name: object, volume_ml: object, note: object = "", measured_by: object = "",
                 measured_on: object = "") -> ClinicPart:
         """Build a part from user input; raises InputError naming the field."""
-        return ClinicPart(_clean_name(name, "Part name"), _clean_volume(volume_ml, "Part volume"),
-                          _clean_text(note, "Note", MAX_NOTE), _clean_text(measured_by, "Measured by", MAX_NAME),
-                          _clean_date(measured_on, "Measured on"))
+        return ClinicPart(_clean_name(name, "clinic-part-name"), _clean_volume(volume_ml, "part-volume"),
+                          _clean_text(note, "part-note"), _clean_text(measured_by, "measured-by"),
+                          _clean_date(measured_on, "measured-on"))
 
     @property
     def source(self) -> str:
@@ -144,32 +150,35 @@ class CircuitPreset:
                 note: object = "") -> CircuitPreset:
         """Build a preset from user input; raises InputError naming the field."""
         if not isinstance(parts, list | tuple):
-            raise InputError("Preset parts", parts, "must be a list of parts")
-        if len(parts) > 50:
-            raise InputError("Preset parts", len(parts), "at most 50 parts")
+            raise InputError("preset-parts", type(parts).__name__, "must be a list of parts")
+        check_count("preset-parts", len(parts), MAX_PRESET_PARTS)
         clean = []
         for i, p in enumerate(parts):
             if isinstance(p, ApparatusPart):
                 p = {"name": p.name, "volume_ml": p.volume_ml, "source": p.source}
             if not isinstance(p, dict) or set(p) - {"name", "volume_ml", "source"}:
-                raise InputError(f"Preset part {i + 1}", p, "needs name, volume_ml and source")
-            clean.append(ApparatusPart(_clean_name(p.get("name"), f"Preset part {i + 1} name"),
-                                       _clean_volume(p.get("volume_ml"), f"Preset part {i + 1} volume"),
-                                       _clean_text(p.get("source", "entered by the user"),
-                                                   f"Preset part {i + 1} source", MAX_NOTE) or "entered by the user"))
+                raise InputError("preset-parts", type(p).__name__, "needs name, volume_ml and source",
+                                 label=f"Preset part {i + 1}")
+            clean.append(ApparatusPart(
+                _clean_name(p.get("name"), "clinic-part-name", f"Preset part {i + 1} name"),
+                _clean_volume(p.get("volume_ml"), "part-volume", f"Preset part {i + 1} volume"),
+                _clean_text(p.get("source", "entered by the user"), "part-source", f"Preset part {i + 1} source")
+                or "entered by the user"))
         comp = None
         if compressible_ml_cmh2o is not None:
-            comp = _clean_volume(compressible_ml_cmh2o, "Compressible volume", 0.0, 200.0)
+            from ventset.fields import parse_field
+
+            comp = parse_field("compressible-volume", compressible_ml_cmh2o)
         ctype = None
         if circuit_type not in (None, ""):
             from ventset.library import load_library
 
             known = load_library().circuits
             if circuit_type not in known:
-                raise InputError("Circuit type", circuit_type, f"must be one of {', '.join(known)}")
+                raise InputError("circuit", circuit_type, f"must be one of {', '.join(known)}", label="Circuit type")
             ctype = str(circuit_type)
-        return CircuitPreset(_clean_name(name, "Preset name"), tuple(clean), comp, ctype,
-                             _clean_text(note, "Note", MAX_NOTE))
+        return CircuitPreset(_clean_name(name, "preset-name"), tuple(clean), comp, ctype,
+                             _clean_text(note, "part-note"))
 
     def apply(self, circuit: Circuit) -> Circuit:
         """``circuit`` with this preset's parts, compressible volume and type (tube, mode and sampling kept)."""
@@ -203,24 +212,26 @@ class ClinicLibrary:
     def with_part(self, part: ClinicPart, replace_existing: bool = False) -> ClinicLibrary:
         """Add ``part``; a part of the same name is an InputError unless ``replace_existing``."""
         if self.part(part.name) is not None and not replace_existing:
-            raise InputError("Part name", part.name, "is already in the clinic library; edit or remove that one")
+            raise InputError("clinic-part-name", part.name, "is already in the clinic library; edit or remove it")
         kept = tuple(p for p in self.parts if name_key(p.name) != name_key(part.name))
+        check_count("clinic-part-name", len(kept) + 1, MAX_CLINIC_ENTRIES, "parts", label="Clinic parts")
         return replace(self, parts=tuple(sorted((*kept, part), key=lambda p: name_key(p.name))))
 
     def without_part(self, name: str) -> ClinicLibrary:
         if self.part(name) is None:
-            raise InputError("Part name", name, "is not in the clinic library")
+            raise InputError("clinic-part-name", name, "is not in the clinic library")
         return replace(self, parts=tuple(p for p in self.parts if name_key(p.name) != name_key(name)))
 
     def with_preset(self, preset: CircuitPreset, replace_existing: bool = False) -> ClinicLibrary:
         if self.preset(preset.name) is not None and not replace_existing:
-            raise InputError("Preset name", preset.name, "is already in the clinic library; edit or remove that one")
+            raise InputError("preset-name", preset.name, "is already in the clinic library; edit or remove it")
         kept = tuple(p for p in self.presets if name_key(p.name) != name_key(preset.name))
+        check_count("preset-name", len(kept) + 1, MAX_CLINIC_ENTRIES, "presets", label="Circuit presets")
         return replace(self, presets=tuple(sorted((*kept, preset), key=lambda p: name_key(p.name))))
 
     def without_preset(self, name: str) -> ClinicLibrary:
         if self.preset(name) is None:
-            raise InputError("Preset name", name, "is not in the clinic library")
+            raise InputError("preset-name", name, "is not in the clinic library")
         return replace(self, presets=tuple(p for p in self.presets if name_key(p.name) != name_key(name)))
 
 
@@ -262,7 +273,7 @@ def library_from_dict(data: object) -> ClinicLibrary:
     for key in ("parts", "presets"):
         if not isinstance(data.get(key, []), list):
             raise ValueError(f"field '{key}' must be a list")
-    lib = ClinicLibrary(clinic=_entry(lambda: _clean_text(data.get("clinic", ""), "clinic", MAX_NAME), "clinic"))
+    lib = ClinicLibrary(clinic=_entry(lambda: _clean_text(data.get("clinic", ""), "clinic"), "clinic"))
     for i, p in enumerate(data.get("parts", [])):
         where = f"parts[{i}]"
         if not isinstance(p, dict):
@@ -316,33 +327,59 @@ def read_library_file(path: os.PathLike | str) -> ClinicLibrary:
         return library_from_dict(data)
     except ValueError as exc:
         raise ClinicLibraryError(path, str(exc)) from None
+    except (TypeError, AttributeError, KeyError, OverflowError, RecursionError) as exc:  # a last guard: refuse
+        raise ClinicLibraryError(path, f"it holds a value of the wrong kind ({type(exc).__name__})") from None
 
 
 def load_clinic_library(path: os.PathLike | str | None = None) -> ClinicLibrary:
     """This machine's library (empty if none saved yet); a damaged file raises, it is never treated as empty."""
     target = Path(path) if path is not None else library_path()
-    if not target.exists():
+    if not _exists(target, ClinicLibraryError):
         return ClinicLibrary()
     return read_library_file(target)
 
 
-def write_library_file(lib: ClinicLibrary, path: os.PathLike | str) -> None:
-    """Write ``lib`` atomically to ``path`` (also used for export)."""
+def _exists(target: Path, error: type[storage.StorageError]) -> bool:
     try:
-        storage.atomic_write_json(path, library_to_dict(lib))
+        return target.exists()
+    except OSError as exc:
+        raise error(target, storage.os_reason(exc)) from None
+
+
+def write_library_file(lib: ClinicLibrary, path: os.PathLike | str, *, private: bool = False) -> None:
+    """Write ``lib`` atomically to ``path`` (also used for export); refuses what the loader would refuse.
+
+    An export gets the user's normal file permissions (umask); ``private`` (this machine's own library in the
+    data folder) makes a new file readable by the user only.
+    """
+    data = library_to_dict(lib)
+    try:
+        library_from_dict(data)
+    except ValueError as exc:
+        raise ClinicLibrarySaveError(path, f"it would not open again ({exc}); nothing was written") from None
+    try:
+        storage.atomic_write_json(path, data, private=private)
     except storage.StorageError as exc:
         raise ClinicLibrarySaveError(path, exc.reason) from None
 
 
 def save_clinic_library(lib: ClinicLibrary, path: os.PathLike | str | None = None) -> None:
-    """Save this machine's library; the version it replaces is kept as clinic-parts.previous.json."""
+    """Save this machine's library; the version it replaces is kept as clinic-parts.previous.json.
+
+    In the data folder (no ``path``) new files are private to the user (0600).
+    """
     target = Path(path) if path is not None else library_path()
-    if target.exists():
+    private = path is None
+    if _exists(target, ClinicLibrarySaveError):
         try:
-            storage.atomic_write_bytes(target.with_name(PREVIOUS_NAME), target.read_bytes())
-        except (OSError, storage.StorageError) as exc:
-            raise ClinicLibrarySaveError(target, f"could not keep the previous version first ({exc})") from None
-    write_library_file(lib, target)
+            storage.atomic_write_bytes(target.with_name(PREVIOUS_NAME), target.read_bytes(), private=private)
+        except OSError as exc:
+            raise ClinicLibrarySaveError(target, f"could not keep the previous version first "
+                                                 f"({storage.os_reason(exc)})") from None
+        except storage.StorageError as exc:
+            raise ClinicLibrarySaveError(target, f"could not keep the previous version first ({exc.reason})") \
+                from None
+    write_library_file(lib, target, private=private)
 
 
 # --------------------------------------------------------------------------------------------
@@ -419,7 +456,7 @@ def merge(local: ClinicLibrary, incoming: ClinicLibrary, on_conflict: str = "kee
     """Merge ``incoming`` into ``local``. Conflicts: 'keep' the local entry (default), 'rename' the
     incoming one to "<name> (imported)", or 'replace' the local one (only when the user chose it)."""
     if on_conflict not in CONFLICT_CHOICES:
-        raise InputError("on conflict", on_conflict, f"must be one of {', '.join(CONFLICT_CHOICES)}")
+        raise InputError("on-conflict", on_conflict, f"must be one of {', '.join(CONFLICT_CHOICES)}")
     added: list[str] = []
     same: list[str] = []
     conflicts: list[Conflict] = []
@@ -468,3 +505,48 @@ def all_parts(clinic: ClinicLibrary, library=None) -> list[PartRow]:
             for p in clinic.parts]
     rows += [PartRow("catalogue", p.key, p.label, p.volume_ml.value, p.volume_ml.source) for p in lib.parts.values()]
     return rows
+
+
+# --------------------------------------------------------------------------------------------
+# a part from what a person typed
+# --------------------------------------------------------------------------------------------
+
+def part_from_text(item: str, library, clinic: Callable[[str], ApparatusPart | None] | None = None) \
+        -> ApparatusPart:
+    """A part from typed text: 'NAME=VOLUME' ('hme=12 mL'), a catalogue key, or (with ``clinic``, a lookup of
+    the clinic's own parts by name) a clinic part. Raises InputError with the key 'apparatus'."""
+    from ventset.units import parse_quantity
+
+    name, _, vol = item.partition("=")
+    name = name.strip()
+    if not name:
+        raise InputError("apparatus", item, "needs NAME=VOLUME or a catalogue key")
+    check_text("part-name", name, label="Apparatus")
+    if vol.strip():
+        label = f"Apparatus '{visible(name, 30)}'"
+        try:
+            volume = parse_quantity(vol, "mL", "apparatus")
+        except InputError as err:
+            raise err.named(label) from None
+        if volume < 0:
+            raise InputError("apparatus", vol, "volume must be 0 mL or more", label=label)
+        return ApparatusPart(name, volume)
+    if name in library.parts:
+        part = library.parts[name]
+        return ApparatusPart(part.label, part.volume_ml.value, part.volume_ml.source)
+    found = clinic(name) if clinic is not None else None
+    if found is not None:
+        return found
+    raise InputError("apparatus", item, "is not a catalogue or clinic part; give a volume, e.g. 'hme=12 mL' "
+                                        "(see 'ventset parts', 'ventset clinic-parts list')")
+
+
+def clinic_part(name: str) -> ApparatusPart | None:
+    """A part from this machine's clinic library by name, or None (also when the library cannot be read)."""
+    from ventset.errors import VentsetError
+
+    try:
+        part = load_clinic_library().part(name)
+    except VentsetError:
+        return None
+    return part.as_apparatus() if part is not None else None
