@@ -20,6 +20,7 @@ from ventset.cases import Case, case_from_dict, check_reopens, now_iso
 from ventset.textpolicy import bad_character
 
 AUTOSAVE_INTERVAL_S = 10
+AUTOSAVE_DEBOUNCE_S = 1.5  # after the last edit: a kill moments after an edit loses nothing (common practice)
 FORMAT = "ventset-autosave"
 SCHEMA_VERSION = 1
 MAX_BYTES = 12_000_000

@@ -7,25 +7,31 @@ settings, what to expect on the monitor, the cautions by code, and the standing 
 from __future__ import annotations
 
 from ventset import __version__
+from ventset.errors import visible
 from ventset.model import Plan
 from ventset.units import fmt, gas_pressure
+
+
+def _line(text: str) -> str:
+    """User text on one line: a line break or control character is shown as an escape, never printed raw."""
+    return visible(text, 600)
 
 
 def plan_summary(plan: Plan, gas_unit: str = "mmHg", when: str = "") -> str:
     """Five to seven lines: patient, circuit, settings, expectations, cautions, standing notice."""
     r, v, p, o, d = plan.resolved, plan.ventilation, plan.pressures, plan.oxygen, plan.dead_space
     c = plan.request.circuit
-    name = f"{plan.request.patient.name}, " if plan.request.patient.name else ""
+    name = f"{_line(plan.request.patient.name)}, " if plan.request.patient.name else ""
     lean = f" (lean {fmt(r.lean_mass_kg)} kg)" if r.lean_mass_kg != r.mass_kg else ""
     stamp = f", {when}" if when else ""
-    parts = "; ".join(f"{x.name} {fmt(x.volume_ml)} mL" for x in d.parts) or "none entered"
+    parts = "; ".join(f"{_line(x.name)} {fmt(x.volume_ml)} mL" for x in d.parts) or "none entered"
     tube = (f"; tube {fmt(c.tube_id_mm)} mm ID, {fmt(c.tube_length_cm)} cm beyond incisors"
             if c.tube_id_mm is not None and c.tube_length_cm is not None else "; tube not entered")
     pressure = (f"inspiratory pressure {fmt(p.inspiratory_pressure_cmh2o)} cmH2O above PEEP, "
                 if r.mode == "pressure" else "")
     lines = [
-        f"Ventilation starting plan (ventset {__version__}{stamp}): {name}{r.species_label}, {fmt(r.mass_kg)} kg"
-        f"{lean}, {fmt(r.body_temp_c)} °C.",
+        f"Ventilation starting plan (ventset {__version__}{stamp}): {name}{_line(r.species_label)}, "
+        f"{fmt(r.mass_kg)} kg{lean}, {fmt(r.body_temp_c)} °C.",
         f"Circuit: {o.circuit_label}, {r.mode} mode; apparatus {parts}{tube}.",
         f"Settings: set VT {fmt(v.set_tidal_volume_ml)} mL (patient {fmt(v.tidal_volume_ml)} mL, "
         f"{fmt(v.tidal_volume_ml / r.lean_mass_kg)} mL/kg), rate {fmt(v.rate_per_min)} /min, Ti {fmt(v.ti_s)} s "

@@ -43,7 +43,8 @@ from PySide6.QtWidgets import (
 )
 
 from ventset import autosave, cases, partslib
-from ventset.errors import InputError, VentsetError
+from ventset.errors import InputError, VentsetError, one_line
+from ventset.gui.text import esc, plain, plain_tip
 from ventset.units import fmt
 
 CASE_FILTER = f"ventset case (*{cases.SUFFIX});;JSON (*.json);;All files (*)"
@@ -54,7 +55,7 @@ def _first_error(errors) -> str:
     if not errors:
         return ""
     e = errors[0]
-    return f"{e.field} — {e.reason}"
+    return one_line(f"{e.field} — {e.reason}")
 
 
 class CaseManager(QObject):
@@ -64,7 +65,8 @@ class CaseManager(QObject):
     opened = Signal(object)   # cases.OpenedCase
 
     def __init__(self, window, *, autosave_folder: Path | None = None,
-                 interval_s: float = autosave.AUTOSAVE_INTERVAL_S) -> None:
+                 interval_s: float = autosave.AUTOSAVE_INTERVAL_S,
+                 debounce_s: float = autosave.AUTOSAVE_DEBOUNCE_S) -> None:
         super().__init__(window)
         self.window = window
         self.controller = window.controller
@@ -84,8 +86,15 @@ class CaseManager(QObject):
         self.timer.setInterval(int(interval_s * 1000))
         self.timer.timeout.connect(self.autosave_now)
         self.timer.start()
+        # Soon after each change as well (restarted by every edit), so a kill loses at most the last moments.
+        self.debounce = QTimer(self)
+        self.debounce.setSingleShot(True)
+        self.debounce.setInterval(int(debounce_s * 1000))
+        self.debounce.timeout.connect(self.autosave_now)
         self.controller.plan_ready.connect(self._refresh_title)
         self.controller.plan_invalid.connect(self._refresh_title)
+        self.controller.plan_ready.connect(self._changed)
+        self.controller.plan_invalid.connect(self._changed)
         window.installEventFilter(self)
 
     # ------------------------------------------------------------------ state
@@ -102,6 +111,7 @@ class CaseManager(QObject):
             if all(hasattr(child, a) for a in ("entries", "set_entries", "record_changed")):
                 self.register_timeline(lambda c=child: c.entries, child.set_entries)
                 child.record_changed.connect(self._refresh_title)
+                child.record_changed.connect(self._changed)
                 if self.case is not None and self.case.timeline is not None:
                     self._put_timeline(self.case)
                 return True
@@ -111,6 +121,12 @@ class CaseManager(QObject):
         """Something outside the form (e.g. the anaesthetic record) changed: the case is unsaved."""
         self._changed_outside = True
         self._refresh_title()
+        self._changed()
+
+    def _changed(self, *_: object) -> None:
+        """An edit: autosave once the edits pause (the debounce timer restarts on each one)."""
+        if self.session is not None:
+            self.debounce.start()
 
     def _timeline(self) -> object:
         if self._timeline_get is None:
@@ -195,10 +211,10 @@ class CaseManager(QObject):
             self.warn("The case could not be opened", f"{exc}\n\nThe case in the window is unchanged.")
             return False
         self._load(opened.case, opened.path, dirty=False)
-        cases.add_recent(opened.path)
+        warning = cases.add_recent(opened.path)
         if opened.messages:
             self.inform("Opened with notes", "\n".join(opened.messages))
-        self._status(f"Opened {opened.path}")
+        self._status(f"Opened {opened.path}" + (f" ({warning})" if warning else ""))
         self.opened.emit(opened)
         return True
 
@@ -217,7 +233,7 @@ class CaseManager(QObject):
             return
         try:
             self._timeline_put(cases.case_timeline(case))
-        except (VentsetError, ValueError, TypeError, KeyError) as exc:
+        except (VentsetError, ValueError, TypeError, KeyError, AttributeError, OverflowError) as exc:
             self.warn("Anaesthetic record not shown", f"The record in this case cannot be read ({exc}); "
                       "it is kept in the file unchanged.")
 
@@ -252,10 +268,13 @@ class CaseManager(QObject):
             return False
         self.case, self.path = saved, path
         self._changed_outside = False
-        cases.add_recent(path)
+        warning = cases.add_recent(path)
         if self.session is not None and not self.is_dirty():
-            self.session.clear()
-        self._status(f"Saved {path}")
+            try:
+                self.session.clear()
+            except VentsetError as exc:
+                warning = warning or str(exc)
+        self._status(f"Saved {path}" + (f" ({warning})" if warning else ""))
         self._refresh_title()
         self.saved.emit(path)
         return True
@@ -377,9 +396,13 @@ class CaseManager(QObject):
 
     def close_session(self) -> None:
         if self.session is not None:
-            self.session.close(keep_unsaved=True)
+            try:
+                self.session.close(keep_unsaved=True)
+            except VentsetError as exc:
+                self._status(f"Autosave not closed cleanly: {exc}")
             self.session = None
         self.timer.stop()
+        self.debounce.stop()
 
     def _refresh_title(self, *_: object) -> None:
         req = self.controller.request
@@ -398,6 +421,7 @@ class CaseManager(QObject):
         box = QMessageBox(QMessageBox.Icon.Question, "Unsaved changes",
                           "The case has changes that are not saved in a case file.", parent=self.window)
         box.setInformativeText("Save them, discard them (a copy stays in the autosave folder), or go back?")
+        _plain_box(box)
         save = box.addButton("Save…", QMessageBox.ButtonRole.AcceptRole)
         discard = box.addButton("Discard", QMessageBox.ButtonRole.DestructiveRole)
         box.addButton("Cancel", QMessageBox.ButtonRole.RejectRole)
@@ -408,7 +432,8 @@ class CaseManager(QObject):
     def ask_restore(self, rec: autosave.Recovery) -> str:
         box = QMessageBox(QMessageBox.Icon.Question, "Restore unsaved case?",
                           "ventset did not close normally last time. A case was being edited:", parent=self.window)
-        box.setInformativeText(rec.title)
+        box.setTextFormat(Qt.TextFormat.RichText)
+        box.setInformativeText(f"<p>{esc(rec.title)}</p>")  # built as HTML: the patient's name escaped
         restore = box.addButton("Restore", QMessageBox.ButtonRole.AcceptRole)
         aside = box.addButton("Set aside", QMessageBox.ButtonRole.DestructiveRole)
         box.addButton("Ask next time", QMessageBox.ButtonRole.RejectRole)
@@ -422,19 +447,38 @@ class CaseManager(QObject):
     def pick_save_path(self, title: str, start: str, filters: str) -> str:
         return QFileDialog.getSaveFileName(self.window, title, start, filters)[0]
 
+    def _message(self, icon: QMessageBox.Icon, title: str, text: str,
+                 buttons: QMessageBox.StandardButton = QMessageBox.StandardButton.Ok) -> QMessageBox.StandardButton:
+        box = QMessageBox(icon, title, text, buttons, self.window)
+        _plain_box(box)
+        return QMessageBox.StandardButton(box.exec())
+
     def warn(self, title: str, text: str) -> None:
-        QMessageBox.warning(self.window, title, text)
+        self._message(QMessageBox.Icon.Warning, title, text)
 
     def inform(self, title: str, text: str) -> None:
-        QMessageBox.information(self.window, title, text)
+        self._message(QMessageBox.Icon.Information, title, text)
 
     def confirm(self, title: str, text: str) -> bool:
-        answer = QMessageBox.question(self.window, title, text)
-        return answer == QMessageBox.StandardButton.Yes
+        yes_no = QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No
+        return self._message(QMessageBox.Icon.Question, title, text, yes_no) == QMessageBox.StandardButton.Yes
 
     def ask_text(self, title: str, label: str, text: str = "") -> str:
-        value, ok = QInputDialog.getText(self.window, title, label, text=text)
-        return value if ok else ""
+        dialog = QInputDialog(self.window)
+        dialog.setWindowTitle(title)
+        dialog.setLabelText(label)
+        dialog.setTextValue(text)
+        for lab in dialog.findChildren(QLabel):
+            plain(lab)
+        ok = dialog.exec() == QDialog.DialogCode.Accepted
+        return dialog.textValue() if ok else ""
+
+
+def _plain_box(box: QMessageBox) -> None:
+    """Every text of ``box`` shown as plain text (messages hold file names, patient and part names)."""
+    box.setTextFormat(Qt.TextFormat.PlainText)
+    for lab in box.findChildren(QLabel):
+        plain(lab)
 
 
 def _empty_timeline(data: object) -> bool:
@@ -461,7 +505,7 @@ class PrintPreview(QDialog):
         layout = QVBoxLayout(self)
         scroll = QScrollArea(self)
         scroll.setWidgetResizable(False)
-        self.page = QLabel(scroll)
+        self.page = plain(QLabel(scroll))
         width = max(700, self.fontMetrics().averageCharWidth() * 110)
         self.image = plan_page_image(plan, width, gas_unit=manager._gas_unit(),
                                      case_name=manager.path.name if manager.path else "")
@@ -499,7 +543,7 @@ class ClinicPartsDialog(QDialog):
         except VentsetError as exc:
             self.error = str(exc)
         layout = QVBoxLayout(self)
-        self.where = QLabel(self)
+        self.where = plain(QLabel(self))
         self.where.setWordWrap(True)
         layout.addWidget(self.where)
         self.tabs = QTabWidget(self)
@@ -567,7 +611,7 @@ class ClinicPartsDialog(QDialog):
         for i, r in enumerate(rows):
             for j, text in enumerate((r.name, fmt(r.volume_ml), r.source)):
                 item = QTableWidgetItem(text)
-                item.setToolTip(f"{r.name}: {fmt(r.volume_ml)} mL — {r.source}")
+                item.setToolTip(plain_tip(f"{r.name}: {fmt(r.volume_ml)} mL — {r.source}"))
                 shipped.setItem(i, j, item)
         shipped.setColumnWidth(0, self.fontMetrics().averageCharWidth() * 46)
         shipped.setColumnWidth(1, self.fontMetrics().averageCharWidth() * 16)

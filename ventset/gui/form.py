@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
 from ventset.errors import InputError
 from ventset.fields import FIELDS, FieldSpec
 from ventset.gui import formstate as fs
+from ventset.gui.text import esc, plain, plain_tip
 from ventset.gui.theme import DAY, Theme, scaled_font
 from ventset.library import Library
 from ventset.model import STRATEGIES, STRATEGY_LABELS, Plan, Request
@@ -150,7 +151,7 @@ class FieldRow:
         if pair:
             self.label = QRadioButton(spec.label, parent)
         else:
-            self.label = QLabel(spec.label, parent)
+            self.label = plain(QLabel(spec.label, parent))
             self.label.setWordWrap(True)
         self.edit = FieldEdit(parent)
         self.edit.setObjectName(f"field-{spec.key}")
@@ -167,14 +168,14 @@ class FieldRow:
             self.unit.setAccessibleName(f"{spec.label} unit")
             self.unit.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
         else:
-            self.unit = QLabel(fs.shown_unit(spec.units[0], spec.key), parent)
-        self.error = QLabel(parent)
+            self.unit = plain(QLabel(fs.shown_unit(spec.units[0], spec.key), parent))
+        self.error = plain(QLabel(parent))
         self.error.setWordWrap(True)
         self.error.setVisible(False)
         self.error.setObjectName(f"error-{spec.key}")
         self.invalid = False
         self._tooltip = ""
-        self.set_tooltip(f"<b>{spec.label}</b><br>{spec.help}")
+        self.set_tooltip(f"<b>{esc(spec.label)}</b><br>{esc(spec.help)}")
 
     def set_tooltip(self, text: str) -> None:
         if text != self._tooltip:
@@ -293,8 +294,8 @@ class PartsEditor(QWidget):
         self.catalogue.setAccessibleName("Apparatus catalogue")
         for part in sorted(library.parts.values(), key=lambda p: p.label):
             self.catalogue.addItem(f"{part.label} — {fmt(part.volume_ml.value)} mL", part.key)
-            self.catalogue.setItemData(self.catalogue.count() - 1, f"{fmt(part.volume_ml.value)} mL: "
-                                       f"{part.volume_ml.source}", Qt.ItemDataRole.ToolTipRole)
+            self.catalogue.setItemData(self.catalogue.count() - 1, plain_tip(f"{fmt(part.volume_ml.value)} mL: "
+                                       f"{part.volume_ml.source}"), Qt.ItemDataRole.ToolTipRole)
         compact(self.catalogue, 12)
         self.add_button = QPushButton("Add", self)
         self.add_button.setObjectName("parts-add")
@@ -324,7 +325,7 @@ class PartsEditor(QWidget):
         row2.addWidget(self.own_add)
         lay.addLayout(row2)
         row3 = QHBoxLayout()
-        self.message = QLabel(self)
+        self.message = plain(QLabel(self))
         self.message.setWordWrap(True)
         row3.addWidget(self.message, 1)
         row3.addWidget(self.remove_button)
@@ -346,10 +347,10 @@ class PartsEditor(QWidget):
         for i, part in enumerate(parts):
             name = QTableWidgetItem(part[0])
             name.setFlags(name.flags() & ~Qt.ItemFlag.ItemIsEditable)
-            name.setToolTip(f"{part[0]}: {part[2]}")
+            name.setToolTip(plain_tip(f"{part[0]}: {part[2]}"))
             vol = QTableWidgetItem(part[1])
             vol.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
-            vol.setToolTip(f"Volume in mL ({part[2]}). Edit to the real device's volume.")
+            vol.setToolTip(plain_tip(f"Volume in mL ({part[2]}). Edit to the real device's volume."))
             self.table.setItem(i, 0, name)
             self.table.setItem(i, 1, vol)
         self.table.blockSignals(False)
@@ -438,7 +439,7 @@ class InputForm(QWidget):
         keys = _layout_keys()
         hint = QLabel("Grey numbers are the defaults in use: type to override, empty a field to return to the "
                       "default. Hover over any label for its definition and source.", self)
-        hint.setWordWrap(True)
+        plain(hint).setWordWrap(True)
         hint.setFont(scaled_font(self.font(), 0.9))
         hint.setObjectName("form-hint")
         outer.addWidget(hint)
@@ -504,7 +505,7 @@ class InputForm(QWidget):
             box = QWidget(parent)
             h = QHBoxLayout(box)
             h.setContentsMargins(0, 0, 0, 0)
-            h.addWidget(QLabel("1 :", box))
+            h.addWidget(plain(QLabel("1 :", box)))
             h.addWidget(row.edit, 1)
             grid.addWidget(box, self._r, 1)
         else:
@@ -518,7 +519,7 @@ class InputForm(QWidget):
             row.unit.activated.connect(lambda i, k=key: self._unit_picked(k, i))
 
     def _label_row(self, parent: QWidget, grid: QGridLayout, text: str, widget: QWidget, tip: str = "") -> QLabel:
-        lab = QLabel(text, parent)
+        lab = plain(QLabel(text, parent))
         lab.setBuddy(widget)
         grid.addWidget(lab, self._r, 0)
         grid.addWidget(widget, self._r, 1, 1, 2)
@@ -541,7 +542,7 @@ class InputForm(QWidget):
                         "Type any part of a name or alias (e.g. 'budgie', 'pony', 'bearded dragon') and pick "
                         "from the list. Every default below comes from this entry of the species library.")
         self.species.picked.connect(lambda key: self._push({"species": key}, "Change species"))
-        self.species_error = QLabel(box)
+        self.species_error = plain(QLabel(box))
         self.species_error.setWordWrap(True)
         self.species_error.setVisible(False)
         grid.addWidget(self.species_error, self._r, 0, 1, 3)
@@ -810,8 +811,8 @@ class InputForm(QWidget):
                 hit = next((a for n, a in sources.items() if n.startswith(name)), None)
                 if hit is not None:
                     value = fmt(hit.value) if isinstance(hit.value, float) else hit.value
-                    src = f"<br><i>Default used now:</i> {value} {hit.unit} — {hit.source}"
-            row.set_tooltip(f"<b>{row.spec.label}</b><br>{row.spec.help}{src}")
+                    src = f"<br><i>Default used now:</i> {esc(value)} {esc(hit.unit)} — {esc(hit.source)}"
+            row.set_tooltip(f"<b>{esc(row.spec.label)}</b><br>{esc(row.spec.help)}{src}")
         mode_text = f"Species default ({plan.resolved.mode})"
         if self.mode_combo.itemText(0) != mode_text:
             self.mode_combo.setItemText(0, mode_text)

@@ -207,7 +207,7 @@ OTHER_KEYS = frozenset({*TEXT_INPUTS, "apparatus"})
 
 def error_key(err: InputError) -> str | None:
     """Which form element an InputError belongs to: its key when the form has such an element, else None."""
-    if err.key == "apparatus":
+    if err.key in ("apparatus", "part-name", "part-source"):
         return "parts"  # the parts editor
     if err.key in FIELDS or err.key in OTHER_KEYS:
         return err.key

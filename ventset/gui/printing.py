@@ -18,6 +18,7 @@ from dataclasses import dataclass
 from datetime import datetime
 
 from ventset import __version__
+from ventset.errors import visible
 from ventset.model import Plan
 from ventset.units import fmt, gas_pressure, gas_units_in_text
 
@@ -251,14 +252,14 @@ def render_plan(painter, page_w_pt: float, page_h_pt: float, dpi: float, plan: P
     # ---- header -----------------------------------------------------------------------------
     y = top
     sh.text(left, y, width * 0.55, "Ventilation starting plan", sh.font(15, bold=True))
-    patient = sh.elide(plan.request.patient.name or "Patient: ____________________", sh.font(15, bold=True),
-                       width * 0.5)
+    patient = sh.elide(visible(plan.request.patient.name, 600) or "Patient: ____________________",
+                       sh.font(15, bold=True), width * 0.5)
     sh.text(left + width * 0.5, y - 1, width * 0.5, patient, sh.font(15, bold=True), align=align_r, wrap=False)
     y += 21
     stamp = when.strftime("%Y-%m-%d %H:%M")
     sh.text(left, y, width * 0.5, f"Printed {stamp}", sh.font(8), colour=grey)
     lean = f" (lean {fmt(r.lean_mass_kg)} kg)" if r.lean_mass_kg != r.mass_kg else ""
-    animal = sh.elide(f"{r.species_label} · {fmt(r.mass_kg)} kg{lean} · {fmt(r.body_temp_c)} °C",
+    animal = sh.elide(f"{visible(r.species_label, 600)} · {fmt(r.mass_kg)} kg{lean} · {fmt(r.body_temp_c)} °C",
                       sh.font(10.5, bold=True), width * 0.7)
     sh.text(left + width * 0.3, y - 1, width * 0.7, animal, sh.font(10.5, bold=True), align=align_r, wrap=False)
     y += 15
@@ -266,7 +267,7 @@ def render_plan(painter, page_w_pt: float, page_h_pt: float, dpi: float, plan: P
     y += 5
 
     # ---- circuit ----------------------------------------------------------------------------
-    parts = "; ".join(f"{p.name} {fmt(p.volume_ml)} mL" for p in plan.dead_space.parts) or "none entered"
+    parts = "; ".join(f"{visible(p.name, 600)} {fmt(p.volume_ml)} mL" for p in plan.dead_space.parts) or "none entered"
     if len(plan.dead_space.parts) > 1:
         parts += f" = {fmt(plan.dead_space.apparatus_ml)} mL"
     if c.tube_id_mm is not None and c.tube_length_cm is not None:
@@ -458,7 +459,7 @@ def plan_pdf_bytes(plan: Plan, *, gas_unit: str = "mmHg", case_name: str = "", w
     writer.setResolution(DPI)
     writer.setPageSize(_page_size(paper))
     writer.setPageMargins(QMarginsF(0, 0, 0, 0), QPageLayout.Unit.Point)
-    who = plan.request.patient.name or plan.resolved.species_label
+    who = visible(plan.request.patient.name or plan.resolved.species_label, 200)
     writer.setTitle(f"Ventilation starting plan — {who}")
     writer.setCreator(f"ventset {__version__}")
     size = _page_size(paper).size(_points())

@@ -22,9 +22,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ventset.errors import InputError
+from ventset.errors import InputError, one_line
 from ventset.glossary import tooltip
-from ventset.gui.text import Reading, Text
+from ventset.gui.text import Reading, Text, plain, plain_tip
 from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours, severity_pixmap
 from ventset.model import STANDING_NOTICE, STRATEGY_LABELS, Plan
 from ventset.units import fmt, gas_pressure, gas_units_in_text, mmhg_to_kpa
@@ -43,7 +43,7 @@ def gas_text(mmhg: float, unit: str) -> str:
 
 def _label(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = False, wrap: bool = False,
            name: str = "") -> QLabel:
-    lab = QLabel(text, parent)
+    lab = plain(QLabel(text, parent))
     if factor != 1.0 or bold:
         lab.setFont(scaled_font(parent.font(), factor, bold))
     lab.setWordWrap(wrap)
@@ -54,8 +54,9 @@ def _label(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = Fa
 
 
 def _text(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = False, wrap: bool = False,
-          name: str = "", align: Qt.AlignmentFlag = Qt.AlignmentFlag.AlignLeft, lines: int = 1) -> Text:
-    t = Text(text, parent, wrap=wrap, align=align, name=name, lines=lines)
+          name: str = "", align: Qt.AlignmentFlag = Qt.AlignmentFlag.AlignLeft, lines: int = 1,
+          markup: bool = False) -> Text:
+    t = Text(text, parent, wrap=wrap, align=align, name=name, lines=lines, markup=markup)
     if factor != 1.0 or bold:
         t.setFont(scaled_font(parent.font(), factor, bold))
     return t
@@ -80,7 +81,7 @@ class NoticeBanner(QFrame):
         lay = QHBoxLayout(self)
         m = self.fontMetrics().height() // 3
         lay.setContentsMargins(m * 2, m, m * 2, m)
-        self.icon = QLabel(self)
+        self.icon = plain(QLabel(self))
         self.text = _label(self, STANDING_NOTICE, 0.95, wrap=True, name="standing-notice-text")
         self.text.setAccessibleName("Standing notice")
         lay.addWidget(self.icon, 0, Qt.AlignmentFlag.AlignTop)
@@ -107,7 +108,7 @@ class StatusStrip(QFrame):
         self.badge = _label(self, "", 1.0, bold=True, name="plan-state")
         self.patient = _text(self, "", 1.15, bold=True, name="patient-summary")
         self.patient.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
-        self.expect = _text(self, "", 1.0, wrap=True, name="expect-line")
+        self.expect = _text(self, "", 1.0, wrap=True, name="expect-line", markup=True)  # numbers only
         self.counts = _text(self, "", 1.0, bold=True, name="caution-counts", align=Qt.AlignmentFlag.AlignRight)
         self.problem = _text(self, "", 1.0, bold=True, wrap=True, name="stale-reason")
         self.fix = QPushButton("Go to the field", self)
@@ -327,7 +328,7 @@ class CautionRow(QFrame):
         lay.setContentsMargins(m * 2, m, m * 2, m)
         lay.setHorizontalSpacing(m * 2)
         lay.setVerticalSpacing(0)
-        self.icon = QLabel(self)
+        self.icon = plain(QLabel(self))
         self.word = _label(self, "", 1.0, bold=True)
         self.code = _text(self, "", 0.85)
         self.message = _text(self, "", 1.0, wrap=True)
@@ -517,7 +518,7 @@ class DerivedPanel(QScrollArea):
                                                   self._parts_at + len(self.part_rows)))
         for (n, val, u), part in zip(self.part_rows, d.parts, strict=False):
             n.setText(f"  {part.name}")
-            n.setToolTip(f"{part.name}: {fmt(part.volume_ml)} mL — {part.source}")
+            n.setToolTip(plain_tip(f"{part.name}: {fmt(part.volume_ml)} mL — {part.source}"))
             val.setText(fmt(part.volume_ml))
             u.setText("mL")
             for w in (n, val, u):
@@ -586,7 +587,7 @@ class AssumptionsPanel(QTableWidget):
                     self.setItem(i, j, item)
                 if item.text() != text:
                     item.setText(text)
-                    item.setToolTip(text)
+                    item.setToolTip(plain_tip(text))
 
 
 def first_error_text(errors: list[InputError]) -> str:
@@ -594,5 +595,5 @@ def first_error_text(errors: list[InputError]) -> str:
         return ""
     e = errors[0]
     more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
-    return f"Fix: {e.field} — {e.reason}{more}. The numbers shown are from the last valid input."
+    return one_line(f"Fix: {e.field} — {e.reason}{more}. The numbers shown are from the last valid input.")
 

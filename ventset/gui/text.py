@@ -2,27 +2,53 @@
 
 A word-wrapped QLabel asks every layout up to the window to recalculate on each setText, so one
 changed number repaints the whole window. ``Text`` asks for a new layout only when the height it
-needs for its width really changes; otherwise it just repaints its own rectangle. Rich text is a
-small subset: ``<b>…</b>`` spans drawn bold in ``strong_colour``.
+needs for its width really changes; otherwise it just repaints its own rectangle. Text is shown as
+it is (plain) unless the widget is made with ``markup=True``: then ``<b>…</b>`` spans (and nothing
+else) are drawn bold in ``strong_colour`` — only for the project's own sentences, never user text.
+
+Also here: :func:`plain` (a QLabel that never renders markup) and :func:`plain_tip` (a tooltip that
+shows its text literally), for every place that shows user or data text.
 """
 
 from __future__ import annotations
 
+import html
 import re
 
 from PySide6.QtCore import QRect, QSize, Qt
 from PySide6.QtGui import QColor, QFont, QFontMetrics, QPainter, QTextLayout, QTextOption
-from PySide6.QtWidgets import QSizePolicy, QWidget
+from PySide6.QtWidgets import QLabel, QSizePolicy, QWidget
 
 _BOLD = re.compile(r"<b>(.*?)</b>", re.S)
+
+
+def plain(label: QLabel) -> QLabel:
+    """``label`` set to show its text as plain text (Qt would otherwise guess rich text from a '<')."""
+    label.setTextFormat(Qt.TextFormat.PlainText)
+    return label
+
+
+def plain_tip(text: str) -> str:
+    """A tooltip that shows ``text`` literally: Qt guesses rich text for tooltips and has no switch, so the
+    text is escaped and given as rich text ('<img src=…>' in a name shows as those characters)."""
+    if not text:
+        return ""
+    return "<p>" + html.escape(text).replace("\n", "<br>") + "</p>"
+
+
+def esc(text: object) -> str:
+    """User or data text for a string of HTML the project builds (record cards, tooltips with a bold title)."""
+    return html.escape(str(text))
 
 
 class Text(QWidget):
     """Plain (or lightly bold-marked) text, optionally wrapped, left/right aligned."""
 
     def __init__(self, text: str = "", parent: QWidget | None = None, *, wrap: bool = False,
-                 align: Qt.AlignmentFlag = Qt.AlignmentFlag.AlignLeft, name: str = "", lines: int = 1) -> None:
+                 align: Qt.AlignmentFlag = Qt.AlignmentFlag.AlignLeft, name: str = "", lines: int = 1,
+                 markup: bool = False) -> None:
         super().__init__(parent)
+        self._markup = markup
         self._min_lines = max(1, lines)  # height kept for this many lines: a longer text need not move others
         self._text = ""
         self._plain = ""
@@ -57,15 +83,15 @@ class Text(QWidget):
             return
         old_plain = self._plain
         self._text = text
-        spans, plain, pos = [], [], 0
-        for m in _BOLD.finditer(text):
-            plain.append(text[pos:m.start()])
-            start = sum(len(x) for x in plain)
-            plain.append(m.group(1))
+        spans, pieces, pos = [], [], 0
+        for m in _BOLD.finditer(text) if self._markup else ():
+            pieces.append(text[pos:m.start()])
+            start = sum(len(x) for x in pieces)
+            pieces.append(m.group(1))
             spans.append((start, len(m.group(1))))
             pos = m.end()
-        plain.append(text[pos:])
-        self._plain = "".join(plain)
+        pieces.append(text[pos:])
+        self._plain = "".join(pieces)
         self._spans = spans
         self.setAccessibleName(self._plain)
         if not self.isVisible():

@@ -36,11 +36,13 @@ from PySide6.QtWidgets import (
 )
 
 from ventset.errors import InputError
+from ventset.gui.text import esc, plain, plain_tip
 from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours
 from ventset.library import Library, load_library
 from ventset.model import Plan, Request
 from ventset.physiology import metabolism
 from ventset.planner import plan
+from ventset.textpolicy import check_text
 from ventset.titrate import (
     MEASURED_FIELDS,
     PREFERENCE_LABELS,
@@ -139,7 +141,7 @@ class TimelinePanel(QWidget):
 
         head = QLabel("Record each measurement with the settings in use; ventset proposes the next settings "
                       "from it. Setting a proposal makes it the settings in use.", body)
-        head.setWordWrap(True)
+        plain(head).setWordWrap(True)
         lay.addWidget(head)
 
         form = QGridLayout()
@@ -150,16 +152,16 @@ class TimelinePanel(QWidget):
         self.unit_labels: dict[str, QLabel] = {}
         row = 0
         for key, label, unit, hint in ENTRY_FIELDS:
-            lab = QLabel(label, body)
+            lab = plain(QLabel(label, body))
             edit = QLineEdit(body)
             edit.setObjectName(f"record-{key}")
             edit.setAccessibleName(label)
             edit.setPlaceholderText(hint)
             if key in MEASURED_FIELDS:
-                edit.setToolTip(f"<b>{label}</b><br>{MEASURED_FIELDS[key].help}")
+                edit.setToolTip(f"<b>{esc(label)}</b><br>{esc(MEASURED_FIELDS[key].help)}")
             lab.setBuddy(edit)
-            unit_lab = QLabel(unit, body)
-            err = QLabel(body)
+            unit_lab = plain(QLabel(unit, body))
+            err = plain(QLabel(body))
             err.setObjectName(f"record-error-{key}")
             err.setWordWrap(True)
             err.setVisible(False)
@@ -175,7 +177,7 @@ class TimelinePanel(QWidget):
         lay.addLayout(form)
 
         line = QHBoxLayout()
-        line.addWidget(QLabel("Change", body))
+        line.addWidget(plain(QLabel("Change", body)))
         self.prefer = QComboBox(body)
         self.prefer.setAccessibleName("What to change")
         for key, text in PREFERENCE_LABELS.items():
@@ -187,7 +189,7 @@ class TimelinePanel(QWidget):
         self.record_button.setDefault(True)
         self.record_button.clicked.connect(self.record)
         lay.addWidget(self.record_button)
-        self.status = QLabel(body)
+        self.status = plain(QLabel(body))
         self.status.setObjectName("record-status")
         self.status.setWordWrap(True)
         self.status.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
@@ -199,9 +201,9 @@ class TimelinePanel(QWidget):
         self.card.setFrameShape(QFrame.Shape.StyledPanel)
         card = QVBoxLayout(self.card)
         card.setContentsMargins(m, m, m, m)
-        self.card_title = QLabel(self.card)
+        self.card_title = plain(QLabel(self.card))
         self.card_title.setFont(scaled_font(self.font(), 1.05, bold=True))
-        self.proposal_text = QLabel(self.card)
+        self.proposal_text = QLabel(self.card)  # rich text built here, every value in it escaped
         self.proposal_text.setObjectName("proposal-text")
         self.proposal_text.setWordWrap(True)
         self.proposal_text.setTextFormat(Qt.TextFormat.RichText)
@@ -220,7 +222,7 @@ class TimelinePanel(QWidget):
         buttons.addWidget(self.set_partial)
         card.addLayout(buttons)
         own = QHBoxLayout()
-        own.addWidget(QLabel("Or set", self.card))
+        own.addWidget(plain(QLabel("Or set", self.card)))
         self.own_vt = QLineEdit(self.card)
         self.own_vt.setObjectName("own-tidal-volume")
         self.own_vt.setAccessibleName("Tidal volume set")
@@ -296,7 +298,7 @@ class TimelinePanel(QWidget):
                                    "measurement and what was set after it (the vertical steps); hollow triangles are "
                                    "proposals not set. Expected PaCO2 is drawn at the next measurement (or "
                                    "at the time to re-measure a blood gas), to compare with what was measured.", body)
-        self.plot_caption.setWordWrap(True)
+        plain(self.plot_caption).setWordWrap(True)
         self.plot_caption.setFont(scaled_font(self.font(), 0.9))
         lay.addWidget(self.plot_caption)
         self.set_theme(self.theme)
@@ -359,11 +361,15 @@ class TimelinePanel(QWidget):
         except InputError as err:
             errors["time"] = err.reason
             time_min, clock = 0.0, ""
+        note = self.edits["note"].text().strip()
+        try:
+            check_text("record-note", note)
+        except InputError as err:
+            errors["note"] = err.reason
         if errors:
             return None, errors
         return Measurement(time_min, values["tidal-volume"], values["rate"], values["paco2"], values["etco2"],
-                           values["pao2"], values["spo2"], values["fio2"], clock,
-                           self.edits["note"].text().strip()), {}
+                           values["pao2"], values["spo2"], values["fio2"], clock, note), {}
 
     def record(self) -> bool:
         """Read the entry fields, add the measurement and its proposal to the record. False if invalid."""
@@ -466,7 +472,7 @@ class TimelinePanel(QWidget):
     def _mark_edit(self, edit: QLineEdit, reason: str) -> None:
         edit.setProperty("invalid", bool(reason))
         edit.setStyleSheet(f"QLineEdit {{ border: 2px solid {self.theme.danger}; }}" if reason else "")
-        edit.setToolTip(f"⚠ {reason}" if reason else "")
+        edit.setToolTip(plain_tip(f"⚠ {reason}") if reason else "")
 
     def _show_errors(self, errors: dict[str, str]) -> None:
         self._errors = dict(errors)
@@ -474,7 +480,8 @@ class TimelinePanel(QWidget):
             reason = errors.get(key, "")
             self._mark_edit(self.edits[key], reason)
             if key in MEASURED_FIELDS and not reason:
-                self.edits[key].setToolTip(f"<b>{MEASURED_FIELDS[key].label}</b><br>{MEASURED_FIELDS[key].help}")
+                spec = MEASURED_FIELDS[key]
+                self.edits[key].setToolTip(f"<b>{esc(spec.label)}</b><br>{esc(spec.help)}")
             lab = self.error_labels[key]
             lab.setText(f"⚠ {reason}" if reason else "")
             lab.setStyleSheet(f"color: {self.theme.danger}; font-weight: bold;" if reason else "")
@@ -536,7 +543,7 @@ class TimelinePanel(QWidget):
             for col, text in enumerate(cells):
                 item = QTableWidgetItem(text)
                 if col == 0 and m.note:
-                    item.setToolTip(m.note)
+                    item.setToolTip(plain_tip(m.note))
                 self.table.setItem(i, col, item)
         self.table.blockSignals(False)
         self.table.resizeRowsToContents()
@@ -569,7 +576,7 @@ class TimelinePanel(QWidget):
                                 + ("" if latest else " (earlier entry)"))
         parts: list[str] = []
         if e.proposal is None:
-            parts.append(e.error or "No proposal.")
+            parts.append(esc(e.error or "No proposal."))
         else:
             p = e.proposal
             parts.append(f"<b>Next: {fmt(p.tidal_volume_ml)} mL (set {fmt(p.set_tidal_volume_ml)} mL) at "
@@ -584,10 +591,11 @@ class TimelinePanel(QWidget):
             if e.vco2_ml_min:
                 parts.append(f"CO2 output from the measurement: {fmt(e.vco2_ml_min)} mL/min.")
         if e.rationale:
-            parts.append("<br>".join(e.rationale))
+            parts.append("<br>".join(esc(line) for line in e.rationale))
         for c in e.cautions:
             fg, _bg = severity_colours(t, c.severity)
-            parts.append(f"<span style='color:{fg}'><b>{SEVERITY_WORD[c.severity]}</b></span> {c.message}")
+            parts.append(f"<span style='color:{esc(fg)}'><b>{esc(SEVERITY_WORD[c.severity])}</b></span> "
+                         f"{esc(c.message)}")
         if e.settings_set:
             parts.append(f"<b>Set:</b> {_settings_text(e.settings_set)} ({e.accepted.replace('_', '-')}).")
         self.proposal_text.setText("<br><br>".join(parts))
