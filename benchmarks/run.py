@@ -54,7 +54,7 @@ def _wall(cmd: list[str], env: dict, until: str | None = None) -> float:
 
 
 def _median_runs(cmd: list[str], env: dict, n: int = 5, until: str | None = None) -> float:
-    _wall(cmd, env, until)  # warm the byte-code and pint caches once
+    _wall(cmd, env, until)  # warm the byte-code caches once
     return statistics.median(_wall(cmd, env, until) for _ in range(n))
 
 
@@ -110,13 +110,13 @@ def edit_to_views(n: int = 200, panels: bool = False) -> list[float]:
 
 
 def settings_map_ms(n: int = 60) -> float:
-    from ventset.cli import DEMO_ARGS, build_parser, request_from_args
+    from ventset.demo import demo_request
     from ventset.library import load_library
     from ventset.planner import plan
     from ventset.views import settings_map
 
     lib = load_library()
-    p = plan(request_from_args(build_parser().parse_args(["plan", *DEMO_ARGS]), lib), lib)
+    p = plan(demo_request(lib), lib)
     out = []
     for _ in range(n):
         t0 = time.perf_counter()

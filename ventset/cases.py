@@ -17,10 +17,10 @@ from datetime import UTC, datetime
 from pathlib import Path
 
 from ventset import __version__, storage
-from ventset.errors import InputError, VentsetError
+from ventset.errors import InputError, VentsetError, visible
 from ventset.fields import FIELDS, TEXT_INPUTS, request_from_inputs
 from ventset.model import ApparatusPart, Circuit, Patient, Request, Strategy, Targets, request_to_dict
-from ventset.textpolicy import MAX_PARTS, TEXT_FIELDS, check_text
+from ventset.textpolicy import MAX_PARTS, TEXT_FIELDS, bad_character, check_text
 
 FORMAT = "ventset-case"
 SCHEMA_VERSION = 1
@@ -235,6 +235,9 @@ def _text(value: object, where: str, limit: int = MAX_TEXT) -> str:
         raise _Bad(where, f"must be text (got {_type_name(value)})")
     if len(value) > limit:
         raise _Bad(where, f"is {len(value)} characters long; at most {limit}")
+    bad = bad_character(value)
+    if bad is not None:
+        raise _Bad(where, f"holds a control character or line break (U+{ord(bad):04X})")
     return value
 
 
@@ -615,8 +618,8 @@ def open_case(path: os.PathLike | str, library=None) -> OpenedCase:
         except ImportError:  # pragma: no cover - the titration module ships with ventset
             pass
         except (VentsetError, ValueError, *_SHAPE_ERRORS) as exc:
-            messages.append(f"The anaesthetic record in this case cannot be read by this version ({exc}); it is "
-                            "kept unchanged in the file.")
+            messages.append(f"The anaesthetic record in this case cannot be read by this version "
+                            f"({visible(exc, 200)}); it is kept unchanged in the file.")
     return OpenedCase(case, loaded.path, result, error, diffs, tuple(messages), loaded.migrated_from)
 
 
@@ -672,8 +675,7 @@ def _show(value: object, unit: str = "") -> str:
         return "—"
     if isinstance(value, int | float) and not isinstance(value, bool):
         return f"{fmt(float(value))}{' ' + unit if unit else ''}"
-    text = str(value)
-    return text if len(text) <= 60 else text[:57] + "..."
+    return visible(value, 60)
 
 
 def compare_plan_dicts(stored: object, current: object) -> list[str]:
@@ -694,7 +696,7 @@ def compare_plan_dicts(stored: object, current: object) -> list[str]:
     lines += _compare_assumptions(stored.get("assumptions"), current.get("assumptions"))
     others = [k for k in sorted(set(a) | set(b)) if k not in labelled and not _same(a.get(k), b.get(k))]
     if others:
-        shown = ", ".join(f"{k} {_show(a.get(k))} → {_show(b.get(k))}" for k in others[:4])
+        shown = ", ".join(f"{visible(k, 60)} {_show(a.get(k))} → {_show(b.get(k))}" for k in others[:4])
         more = f" and {len(others) - 4} more" if len(others) > 4 else ""
         lines.append(f"Derived values: {shown}{more}")
     if len(lines) > MAX_DIFFERENCES:
@@ -703,17 +705,18 @@ def compare_plan_dicts(stored: object, current: object) -> list[str]:
 
 
 def _by(items: object, key: str) -> dict[str, dict]:
+    """Entries of a stored list by ``key`` (codes and names made safe to show: they come from a file)."""
     if not isinstance(items, list):
         return {}
-    return {str(i.get(key)): i for i in items if isinstance(i, dict)}
+    return {visible(i.get(key), 80): i for i in items if isinstance(i, dict)}
 
 
 def _compare_cautions(stored: object, current: object) -> list[str]:
     a, b = _by(stored, "code"), _by(current, "code")
-    lines = [f"New caution: [{str(b[c].get('severity', '')).upper()}] {c}" for c in b if c not in a]
+    lines = [f"New caution: [{_show(b[c].get('severity', '')).upper()}] {c}" for c in b if c not in a]
     lines += [f"Caution no longer raised: {c}" for c in a if c not in b]
-    lines += [f"Caution {c} changed: [{str(a[c].get('severity', '')).upper()}] → "
-              f"[{str(b[c].get('severity', '')).upper()}]" for c in a if c in b
+    lines += [f"Caution {c} changed: [{_show(a[c].get('severity', '')).upper()}] → "
+              f"[{_show(b[c].get('severity', '')).upper()}]" for c in a if c in b
               and a[c].get("severity") != b[c].get("severity")]
     lines += [f"Caution {c}: wording changed" for c in a if c in b and a[c].get("severity") == b[c].get("severity")
               and a[c].get("message") != b[c].get("message")]
@@ -725,10 +728,10 @@ def _compare_assumptions(stored: object, current: object) -> list[str]:
     lines = []
     for name in b:
         if name not in a:
-            lines.append(f"New assumption: {name} {_show(b[name].get('value'), str(b[name].get('unit', '')))}")
+            lines.append(f"New assumption: {name} {_show(b[name].get('value'), _show(b[name].get('unit', '')))}")
         elif not _same(a[name].get("value"), b[name].get("value")) or a[name].get("unit") != b[name].get("unit"):
-            lines.append(f"Assumption {name}: stored {_show(a[name].get('value'), str(a[name].get('unit', '')))}, "
-                         f"now {_show(b[name].get('value'), str(b[name].get('unit', '')))}")
+            lines.append(f"Assumption {name}: stored {_show(a[name].get('value'), _show(a[name].get('unit', '')))}, "
+                         f"now {_show(b[name].get('value'), _show(b[name].get('unit', '')))}")
         elif a[name].get("source") != b[name].get("source"):
             lines.append(f"Assumption {name}: source changed to {_show(b[name].get('source'))}")
     lines += [f"Assumption no longer used: {name}" for name in a if name not in b]

@@ -18,6 +18,7 @@ import re
 from dataclasses import dataclass
 
 from ventset.errors import InputError, visible
+from ventset.textpolicy import bad_character
 
 MMHG_PER_KPA = 7.500615758  # 1 kPa = 1000 Pa / 133.322387415 Pa (conventional mmHg)
 PA_PER_MMHG = 133.322387415  # conventional millimetre of mercury (BIPM SI brochure, non-SI units table)
@@ -132,6 +133,10 @@ def _split(text: object, unit: str, field: object) -> tuple[float, str]:
     if len(raw) > MAX_TEXT:
         raise InputError(field, raw, f"is {len(raw)} characters long; enter a number and a unit "
                                      f"(at most {MAX_TEXT} characters)")
+    bad = bad_character(raw)
+    if bad is not None:
+        raise InputError(field, raw, f"holds a control character or line break (U+{ord(bad):04X}); type the number "
+                                     "and unit on one line")
     if any(ch.isdigit() and not ch.isascii() for ch in raw):
         raise InputError(field, raw, "use plain digits 0-9 and a decimal point")
     if re.match(r"^\s*[+-]?\d+,\d+", raw):

@@ -22,7 +22,7 @@ from PySide6.QtWidgets import (
 )
 
 from ventset import views
-from ventset.gui.text import Text
+from ventset.gui.text import Text, plain
 from ventset.gui.theme import DAY, Theme, scaled_font
 from ventset.model import Plan
 from ventset.units import fmt, mmhg_to_kpa
@@ -63,7 +63,7 @@ class PlotCard(QFrame):
         lay.setContentsMargins(m, m, m, m)
         lay.setSpacing(m)
         self._title = title
-        self.title = QLabel(title, self)
+        self.title = plain(QLabel(title, self))
         self.title.setFont(scaled_font(self.font(), 1.05, bold=True))
         self.title.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
         self.caption = Text("", self, wrap=True, name="plot-caption", lines=3)
