@@ -14,6 +14,7 @@ import secrets
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
+from typing import IO
 
 from ventset import storage
 from ventset.cases import Case, case_from_dict, check_reopens, now_iso
@@ -29,7 +30,7 @@ KEEP_DISMISSED = 20
 try:  # POSIX advisory locks; released by the kernel when the process dies
     import fcntl
 except ImportError:  # pragma: no cover - Windows
-    fcntl = None
+    fcntl = None  # type: ignore[assignment]
 
 
 def autosave_dir() -> Path:
@@ -78,7 +79,7 @@ class AutosaveSession:
         self.id = f"{stamp}-{os.getpid()}-{secrets.token_hex(3)}"
         self.path = self.folder / f"session-{self.id}.json"
         self.lock_path = self.folder / f"session-{self.id}.lock"
-        self._lock = None  # taken before the first autosave, held until close (or the process dies)
+        self._lock: IO[str] | None = None  # taken before the first autosave, held until close (or death)
         self._last: bytes | None = None
         self.closed = False
 
@@ -187,8 +188,8 @@ def _read(path: Path) -> Recovery:
         source = data.get("source_path")
         updated = data.get("updated_at")
         unparsed = _kept_unparsed(data.get("unparsed"))
-        source_ok = isinstance(source, str) and source and len(source) < 4096 and bad_character(source) is None
-        return Recovery(path, case, Path(source) if source_ok else None,
+        source_ok = isinstance(source, str) and 0 < len(source) < 4096 and bad_character(source) is None
+        return Recovery(path, case, Path(str(source)) if source_ok else None,
                         updated if isinstance(updated, str) else "", unparsed=unparsed)
     except storage.StorageError as exc:
         return Recovery(path, None, None, "", exc.reason)

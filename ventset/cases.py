@@ -15,6 +15,7 @@ from collections.abc import Callable
 from dataclasses import MISSING, dataclass, field, fields, replace
 from datetime import UTC, datetime
 from pathlib import Path
+from typing import cast
 
 from ventset import __version__, storage
 from ventset.errors import InputError, VentsetError, visible
@@ -175,7 +176,7 @@ def case_timeline(case: Case) -> tuple:
         return ()
     from ventset.titrate import timeline_from_dict
 
-    return timeline_from_dict(case.timeline)
+    return timeline_from_dict(cast(dict, case.timeline))  # a list is refused there, with the reason
 
 
 def _species_version() -> str:
@@ -259,7 +260,7 @@ _TEXT_RULE = {("Patient", "name"): "name", ("Patient", "custom_species"): "custo
               ("ApparatusPart", "source"): "part-source"}
 
 
-def _policy_text(rule: str) -> Callable[[object, str], object]:
+def _policy_text(rule: str) -> Callable[[object, str], str]:
     def check(value: object, where: str) -> str:
         if not isinstance(value, str):
             raise _Bad(where, f"must be text (got {_type_name(value)})")
@@ -346,7 +347,7 @@ def _timestamp(value: object, where: str) -> str:
     return text
 
 
-def _checked_timeline(timeline: object) -> object:
+def _checked_timeline(timeline: list | dict | None) -> list | dict | None:
     """The stored record as it is, after checking each entry's note by the text policy (the rest is read by
     ventset.titrate when the case is opened, and kept unchanged if it cannot be)."""
     entries = timeline.get("entries") if isinstance(timeline, dict) else timeline
@@ -460,9 +461,9 @@ def migrate(data: object) -> tuple[dict, int | None]:
         raise _Bad("schema_version", f"is {version}, which no ventset has written")
     start = version
     while version < SCHEMA_VERSION:
-        data = MIGRATIONS[version](data)
+        data = MIGRATIONS[version](cast(dict, data))
         version += 1
-    return data, (start if start != SCHEMA_VERSION else None)
+    return cast(dict, data), (start if start != SCHEMA_VERSION else None)
 
 
 def case_from_dict(data: object) -> tuple[Case, int | None]:
@@ -577,8 +578,8 @@ def replan(case: Case, library=None) -> tuple[object | None, str, tuple[str, ...
         result = make_plan(case.request, lib)
     except (InputError, ArithmeticError, ValueError) as err:
         reason = str(err) if isinstance(err, InputError) else _internal(err)
-        diffs = ("The stored inputs no longer give a plan: " + reason,) if case.plan is not None else ()
-        return None, reason, diffs
+        lost: tuple[str, ...] = ("The stored inputs no longer give a plan: " + reason,) if case.plan else ()
+        return None, reason, lost
     if case.plan is None:
         return result, "", ()
     try:

@@ -7,6 +7,7 @@ import importlib
 import json
 import sys
 from collections.abc import Sequence
+from typing import NoReturn
 
 from ventset.cli_support import add_request_options, option_error, print_json, request_from_args, say
 from ventset.errors import DataError, InputError, VentsetError, one_line
@@ -19,7 +20,7 @@ EXTENSIONS: tuple[str, ...] = ("ventset.cli_cases", "ventset.cli_titrate")
 
 
 class _Parser(argparse.ArgumentParser):
-    def error(self, message: str) -> None:  # one line, exit 2, no usage dump
+    def error(self, message: str) -> NoReturn:  # one line, exit 2, no usage dump
         self.exit(2, f"ventset: {one_line(message)}\n")
 
 

@@ -10,10 +10,12 @@ from __future__ import annotations
 import argparse
 import json
 from pathlib import Path
+from typing import cast
 
 from ventset import cases, partslib, storage
 from ventset.cli_support import print_json, say
 from ventset.errors import InputError, VentsetError
+from ventset.model import Plan
 
 _say = say
 
@@ -129,14 +131,15 @@ def _cmd_show(ns: argparse.Namespace) -> int:
     if opened.plan is None:
         raise InputError("case", ns.case, f"its inputs no longer give a plan ({opened.plan_error}); "
                                           "'ventset show --stored' prints the plan as saved")
+    result = cast(Plan, opened.plan)
     if ns.summary:
         from ventset.summary import plan_summary
 
-        print(plan_summary(opened.plan, ns.gas_unit))
+        print(plan_summary(result, ns.gas_unit))
     elif ns.json:
-        print_json(plan_to_dict(opened.plan))
+        print_json(plan_to_dict(result))
     else:
-        print(plan_to_text(opened.plan, ns.gas_unit))
+        print(plan_to_text(result, ns.gas_unit))
     return 0
 
 

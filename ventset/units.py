@@ -205,7 +205,7 @@ def check_range(value: float, lo: float | None, hi: float | None, field: object,
     return value
 
 
-def fmt(value: float, sig: int = 3) -> str:
+def fmt(value: float | None, sig: int = 3) -> str:
     """Format a number for a clinician: ``sig`` significant figures, a leading zero, no trailing zero."""
     if value is None or not math.isfinite(value):
         return "—"
