@@ -176,3 +176,23 @@ def test_every_edit_restarts_the_debounce(make_window):
     assert not manager.session.path.exists()
     manager.debounce.timeout.emit()
     assert manager.session.path.exists()
+
+
+@pytest.mark.parametrize("raw", [
+    b'{"format": "ventset-case", "schema_version": 1, "request": {"patient": {"species": "dog", "mass_kg": 1'
+    + b"0" * 400 + b"}}}",
+    b'{"format": "ventset-case", "schema_version": 1, "request": {"patient": {"species": "dog", "mass_kg": 20},'
+    b' "circuit": {"parts": [7]}}}',
+    '{"format": "ventset-case", "schema_version": 1, "request": {"patient": {"species": "dog", "mass_kg": 20,'
+    ' "name": "Rex\\u202e"}}}'.encode(),
+])
+def test_open_refuses_a_malformed_case_and_leaves_the_window_as_it_was(make_window, tmp_path, raw):
+    window, manager = make_window()
+    shown = []
+    manager.warn = lambda title, text: shown.append(text)
+    before = window.controller.request
+    path = tmp_path / "bad.ventcase"
+    path.write_bytes(raw)
+    assert manager.open_path(path) is False
+    assert window.controller.request == before and path.read_bytes() == raw
+    assert shown and "cannot open" in shown[0] and "unchanged" in shown[0]
