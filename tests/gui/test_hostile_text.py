@@ -183,8 +183,8 @@ def test_every_edit_restarts_the_debounce(make_window):
     + b"0" * 400 + b"}}}",
     b'{"format": "ventset-case", "schema_version": 1, "request": {"patient": {"species": "dog", "mass_kg": 20},'
     b' "circuit": {"parts": [7]}}}',
-    '{"format": "ventset-case", "schema_version": 1, "request": {"patient": {"species": "dog", "mass_kg": 20,'
-    ' "name": "Rex\\u202e"}}}'.encode(),
+    b'{"format": "ventset-case", "schema_version": 1, "request": {"patient": {"species": "dog", "mass_kg": 20,'
+    b' "name": "Rex\\u202e"}}}',
 ])
 def test_open_refuses_a_malformed_case_and_leaves_the_window_as_it_was(make_window, tmp_path, raw):
     window, manager = make_window()
