@@ -68,16 +68,15 @@ def test_malformed_part_fails_naming_part():
 
 
 def test_malformed_file_gives_one_line_cli_error(tmp_path, monkeypatch, capsys):
-    import ventset.library as library_mod
-    from ventset.cli import main
+    import shutil
 
+    from ventset.cli import main
+    from ventset.resources import RESOURCES_DIR_ENV
+
+    for f in resource_path("species.toml").parent.glob("*.toml"):
+        shutil.copy(f, tmp_path / f.name)
     bad = tmp_path / "species.toml"
     bad.write_text("schema_version = 1\n[species.dog\n", encoding="utf-8")
-    real = library_mod.resource_path
-    monkeypatch.setattr(library_mod, "resource_path", lambda n: bad if n == "species.toml" else real(n))
-    library_mod.load_library.cache_clear()
-    try:
-        assert main(["species"]) == 2
-        assert "species.toml" in capsys.readouterr().err
-    finally:
-        library_mod.load_library.cache_clear()
+    monkeypatch.setenv(RESOURCES_DIR_ENV, str(tmp_path))  # the data-folder override, not a patched internal
+    assert main(["species"]) == 2
+    assert "species.toml" in capsys.readouterr().err

@@ -1,40 +1,27 @@
-"""Load and validate the species and apparatus data in resources/.
+"""Load the data in resources/ through its declared schema (ventset/datafiles.py) into frozen dataclasses.
 
-Every number in those files is ``{ value = ..., source = "..." }`` (or a range with
-min/max/start); loading fails with a DataError naming the entry and field.
+Every number in those files is ``{ value = ..., source = "..." }`` (or a range with min/max/start);
+a malformed file fails with one DataError line ``<file>: <entry>: field '<name>' <what is wrong>``.
 """
 
 from __future__ import annotations
 
-import math
-import tomllib
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, fields
 from functools import lru_cache
 from pathlib import Path
+from typing import Any
 
+from ventset.datafiles import FILES
 from ventset.errors import DataError
-from ventset.resources import resource_path
+from ventset.parsecache import parse_toml
+from ventset.resources import resource_dir, resource_path
+from ventset.schema import Sourced, SourcedNumber, Span, Where
+
+__all__ = ["SEVERITIES", "GROUPS", "Sourced", "Span", "Note", "Group", "Species", "Part", "CircuitType", "Library",
+           "load_library", "load_resource", "parse_species", "parse_apparatus", "parse_sourced_table"]
 
 SEVERITIES = ("info", "caution", "danger")
 GROUPS = ("placental", "marsupial", "passerine", "non_passerine", "reptile")
-
-
-@dataclass(frozen=True)
-class Sourced:
-    """A default number with its source."""
-
-    value: float
-    source: str
-
-
-@dataclass(frozen=True)
-class Span:
-    """A usual range with a starting value, and its source."""
-
-    min: float
-    max: float
-    start: float
-    source: str
 
 
 @dataclass(frozen=True)
@@ -156,221 +143,122 @@ class Library:
         return hits[0] if len(hits) == 1 else None
 
 
-class _Reader:
-    def __init__(self, where: str, table: dict) -> None:
-        self.where = where
-        self.t = table
-
-    def fail(self, name: str, why: str) -> DataError:
-        return DataError(f"{self.where}: field '{name}' {why}")
-
-    def raw(self, name: str) -> object:
-        if name not in self.t:
-            raise self.fail(name, "is missing")
-        return self.t[name]
-
-    def number(self, table: dict, name: str, key: str) -> float:
-        v = table.get(key)
-        if isinstance(v, bool) or not isinstance(v, int | float) or not math.isfinite(v):
-            raise self.fail(name, f"needs a finite number '{key}' (got {v!r})")
-        return float(v)
-
-    def source(self, table: dict, name: str) -> str:
-        s = table.get("source")
-        if not isinstance(s, str) or not s.strip():
-            raise self.fail(name, "has no source (cite it, or say 'common practice' or 'from memory')")
-        return s.strip()
-
-    def table(self, name: str) -> dict:
-        v = self.raw(name)
-        if not isinstance(v, dict):
-            raise self.fail(name, "must be a table like { value = 1, source = \"...\" }")
-        return v
-
-    def sourced(self, name: str, lo: float | None = None, hi: float | None = None) -> Sourced:
-        t = self.table(name)
-        v = self.number(t, name, "value")
-        if (lo is not None and v < lo) or (hi is not None and v > hi):
-            raise self.fail(name, f"value {v} is outside {lo}..{hi}")
-        return Sourced(v, self.source(t, name))
-
-    def span(self, name: str, lo: float = 0.0, need_start: bool = True, start_key: str = "start") -> Span:
-        t = self.table(name)
-        a, b = self.number(t, name, "min"), self.number(t, name, "max")
-        s = self.number(t, name, start_key) if need_start else (a + b) / 2
-        if not lo <= a <= b:
-            raise self.fail(name, f"needs {lo} <= min <= max (got min {a}, max {b})")
-        if need_start and not a <= s <= b:
-            raise self.fail(name, f"{start_key} {s} is outside min..max {a}..{b}")
-        return Span(a, b, s, self.source(t, name))
-
-    def text(self, name: str, choices: tuple[str, ...] | None = None) -> str:
-        v = self.raw(name)
-        if not isinstance(v, str) or not v.strip():
-            raise self.fail(name, "must be non-empty text")
-        if choices and v not in choices:
-            raise self.fail(name, f"must be one of {', '.join(choices)} (got {v!r})")
-        return v
-
-    def flag(self, name: str) -> bool:
-        v = self.raw(name)
-        if not isinstance(v, bool):
-            raise self.fail(name, "must be true or false")
-        return v
+# Species fields whose TOML layout differs from the Species attributes; every other declared field fills the
+# attribute of the same name (so a new optional field is one declaration plus one attribute with a default).
+SPECIES_COMPOUND = ("group", "notes", "paco2_etco2_gradient_mmhg", "resistance_cmh2o_l_s", "anatomical_dead_space",
+                    "rate_mass_scaling")
 
 
-def _group(key: str, t: dict) -> Group:
-    r = _Reader(f"species.toml group '{key}'", t)
-    return Group(key, r.text("label"), r.sourced("metabolic_k_kcal_day", 0.01, 1000),
-                 r.sourced("metabolic_exponent", 0.3, 1.2), r.sourced("reference_temperature_c", 0, 45),
-                 r.sourced("q10", 1.0, 5.0))
+def _group(key: str, v: dict[str, Any]) -> Group:
+    return Group(key, v["label"], v["metabolic_k_kcal_day"], v["metabolic_exponent"], v["reference_temperature_c"],
+                 v["q10"])
 
 
-def _rate_scaling(r: _Reader, t: dict) -> tuple[float, float, str] | None:
-    if "rate_mass_scaling" not in t:
-        return None
-    sc = r.table("rate_mass_scaling")
-    ref = r.number(sc, "rate_mass_scaling", "reference_mass_kg")
-    b = r.number(sc, "rate_mass_scaling", "exponent")
-    if ref <= 0 or not -1.0 <= b <= 0.0:
-        raise r.fail("rate_mass_scaling", "needs reference_mass_kg > 0 and -1 <= exponent <= 0")
-    return ref, b, r.source(sc, "rate_mass_scaling")
+def _species(key: str, v: dict[str, Any], groups: dict[str, Group]) -> Species:
+    same = {f.name: v[f.name] for f in fields(Species) if f.name in v and f.name not in SPECIES_COMPOUND}
+    grad, res, ana = v["paco2_etco2_gradient_mmhg"], v["resistance_cmh2o_l_s"], v["anatomical_dead_space"]
+    sc = v["rate_mass_scaling"]
+    return Species(
+        key=key, group=groups[v["group"]], notes=tuple(Note(**n) for n in v["notes"]),
+        gradient_mmhg=Sourced(grad["value"], grad["source"]), gradient_reliable=grad["reliable"],
+        resistance_coefficient=res["coefficient"], resistance_exponent=res["exponent"],
+        resistance_source=res["source"],
+        anatomical_coefficient_ml=ana["coefficient_ml"], anatomical_exponent=ana["exponent"],
+        intubated_fraction=ana["intubated_fraction"], anatomical_source=ana["source"],
+        rate_scaling=None if sc is None else (sc["reference_mass_kg"], sc["exponent"], sc["source"]),
+        **same)
 
 
-def _species(key: str, t: dict, groups: dict[str, Group]) -> Species:
-    r = _Reader(f"species.toml species '{key}'", t)
-    gkey = r.text("group")
-    if gkey not in groups:
-        raise r.fail("group", f"names unknown group {gkey!r} (known: {', '.join(groups)})")
-    temp_t = r.table("body_temperature_c")
-    temp = Span(r.number(temp_t, "body_temperature_c", "min"), r.number(temp_t, "body_temperature_c", "max"),
-                r.number(temp_t, "body_temperature_c", "value"), r.source(temp_t, "body_temperature_c"))
-    if not (0 < temp.min <= temp.start <= temp.max <= 45):
-        raise r.fail("body_temperature_c", "needs 0 < min <= value <= max <= 45")
-    grad_t = r.table("paco2_etco2_gradient_mmhg")
-    grad = Sourced(r.number(grad_t, "paco2_etco2_gradient_mmhg", "value"),
-                   r.source(grad_t, "paco2_etco2_gradient_mmhg"))
-    reliable = grad_t.get("reliable", True)
-    if not isinstance(reliable, bool):
-        raise r.fail("paco2_etco2_gradient_mmhg", "'reliable' must be true or false")
-    res_t = r.table("resistance_cmh2o_l_s")
-    ana_t = r.table("anatomical_dead_space")
-    intub = r.number(ana_t, "anatomical_dead_space", "intubated_fraction")
-    if not 0 <= intub <= 1:
-        raise r.fail("anatomical_dead_space", "intubated_fraction must be 0..1")
-    notes = []
-    raw_notes = t.get("notes", [])
-    if not isinstance(raw_notes, list):
-        raise r.fail("notes", "must be a list of tables")
-    for i, n in enumerate(raw_notes):
-        nr = _Reader(f"species.toml species '{key}' notes[{i}]", n if isinstance(n, dict) else {})
-        # Species notes are standing facts about the species: at most "caution", so that "danger" always
-        # means this plan's own numbers are dangerous.
-        notes.append(Note(nr.text("severity", ("info", "caution")), nr.text("code"), nr.text("text"),
-                          nr.source(n if isinstance(n, dict) else {}, "source")))
-    aliases = t.get("aliases", [])
-    if not isinstance(aliases, list) or not all(isinstance(a, str) for a in aliases):
-        raise r.fail("aliases", "must be a list of text")
-    sp = Species(
-        key=key, label=r.text("label"), aliases=tuple(aliases), group=groups[gkey],
-        mass_kg=r.span("mass_kg", need_start=False), body_temperature_c=temp,
-        tidal_volume_ml_kg=r.span("tidal_volume_ml_kg"), rate_per_min=r.span("rate_per_min"),
-        pip_limit_cmh2o=r.sourced("pip_limit_cmh2o", 1, 80), peep_cmh2o=r.sourced("peep_cmh2o", 0, 30),
-        ie_expiratory_part=r.sourced("ie_expiratory_part", 0.25, 20),
-        paco2_target_mmhg=r.span("paco2_target_mmhg"), gradient_mmhg=grad, gradient_reliable=reliable,
-        compliance_ml_cmh2o_kg=r.sourced("compliance_ml_cmh2o_kg", 0.01, 100),
-        resistance_coefficient=r.number(res_t, "resistance_cmh2o_l_s", "coefficient"),
-        resistance_exponent=r.number(res_t, "resistance_cmh2o_l_s", "exponent"),
-        resistance_source=r.source(res_t, "resistance_cmh2o_l_s"),
-        alveolar_dead_space_fraction=r.sourced("alveolar_dead_space_fraction", 0, 0.8),
-        anatomical_coefficient_ml=r.number(ana_t, "anatomical_dead_space", "coefficient_ml"),
-        anatomical_exponent=r.number(ana_t, "anatomical_dead_space", "exponent"),
-        intubated_fraction=intub, anatomical_source=r.source(ana_t, "anatomical_dead_space"),
-        rq=r.sourced("rq", 0.6, 1.3), anaesthesia_factor=r.sourced("anaesthesia_factor", 0.3, 1.5),
-        default_mode=r.text("default_mode", ("volume", "pressure")),
-        mechanics_reliable=r.flag("mechanics_reliable"), notes=tuple(notes),
-        inspiratory_time_s=r.sourced("inspiratory_time_s", 0.05, 10) if "inspiratory_time_s" in t else None,
-        rate_scaling=_rate_scaling(r, t),
-    )
-    if sp.resistance_coefficient <= 0:
-        raise r.fail("resistance_cmh2o_l_s", "coefficient must be positive")
-    if sp.anatomical_coefficient_ml <= 0:
-        raise r.fail("anatomical_dead_space", "coefficient_ml must be positive")
-    return sp
-
-
-def _load_toml(path: Path) -> dict:
+def _read_toml(path: Path) -> dict[str, Any]:
+    """Parse one TOML file; a missing, unreadable or invalid file is one DataError line."""
     try:
-        with path.open("rb") as fh:
-            data = tomllib.load(fh)
+        return parse_toml(path.name, path.read_bytes())
     except FileNotFoundError:
         raise DataError(f"{path.name}: data file not found at {path}") from None
-    except tomllib.TOMLDecodeError as exc:
+    except UnicodeDecodeError as exc:
+        raise DataError(f"{path.name}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
+    except ValueError as exc:  # tomllib.TOMLDecodeError (tomllib is imported only when the cache misses)
         raise DataError(f"{path.name}: not valid TOML ({exc})") from None
-    if data.get("schema_version") != 1:
-        raise DataError(f"{path.name}: schema_version must be 1 (got {data.get('schema_version')!r})")
+    except OSError as exc:
+        raise DataError(f"{path.name}: cannot be read ({exc.strerror or exc})") from None
+
+
+def _load_toml(path: Path) -> dict[str, Any]:
+    """Parse a TOML file and check ``schema_version = 1`` (kept for callers not yet on load_resource)."""
+    data = _read_toml(path)
+    if data.get("schema_version") != 1 or isinstance(data.get("schema_version"), bool):
+        raise DataError(f"{path.name}: field 'schema_version' must be 1 (got {data.get('schema_version')!r})")
     return data
 
 
-def parse_species(data: dict) -> tuple[dict[str, Group], dict[str, Species]]:
+def load_resource(name: str, folder: Path | None = None) -> dict[str, Any]:
+    """Read ``name`` (e.g. "titration.toml") from resources/ (or ``folder``) and check it against its schema.
+
+    Returns the declared values: ``Sourced`` for ``{value, source}``, ``Span`` for ranges, and plain
+    floats, text, booleans, tuples (lists) and dicts (tables). Raises DataError (one line) if malformed.
+    """
+    if name not in FILES:
+        raise DataError(f"{name}: no schema is declared for this file (ventset/datafiles.py)")
+    return FILES[name].read(_read_toml(resource_path(name, folder)))
+
+
+def _build_species(v: dict[str, Any]) -> tuple[dict[str, Group], dict[str, Species]]:
+    groups = {k: _group(k, g) for k, g in v["groups"].items()}
+    return groups, {k: _species(k, sp, groups) for k, sp in v["species"].items()}
+
+
+def _build_apparatus(v: dict[str, Any]) -> tuple[dict[str, Part], dict[str, CircuitType], dict[str, Sourced]]:
+    parts = {k: Part(k, p["label"], p["kind"], p["volume_ml"]) for k, p in v["parts"].items()}
+    circuits = {k: CircuitType(k, c["label"], c["rebreathing"], c["compressible_volume_ml_cmh2o"])
+                for k, c in v["circuits"].items()}
+    return parts, circuits, dict(v["fresh_gas"])
+
+
+def parse_species(data: dict[str, Any]) -> tuple[dict[str, Group], dict[str, Species]]:
     """Validate a parsed species.toml document; raises DataError naming species and field."""
-    groups_t = data.get("groups")
-    species_t = data.get("species")
-    if not isinstance(groups_t, dict) or not isinstance(species_t, dict):
-        raise DataError("species.toml: needs [groups.*] and [species.*] tables")
-    groups = {k: _group(k, v) for k, v in groups_t.items()}
-    species = {k: _species(k, v, groups) for k, v in species_t.items()}
-    return groups, species
+    return _build_species(FILES["species.toml"].read(data))
 
 
-def parse_apparatus(data: dict) -> tuple[dict[str, Part], dict[str, CircuitType], dict[str, Sourced]]:
+def parse_apparatus(data: dict[str, Any]) -> tuple[dict[str, Part], dict[str, CircuitType], dict[str, Sourced]]:
     """Validate a parsed apparatus.toml document; raises DataError naming entry and field."""
-    parts = {}
-    for k, v in (data.get("parts") or {}).items():
-        r = _Reader(f"apparatus.toml part '{k}'", v)
-        parts[k] = Part(k, r.text("label"), r.text("kind"), r.sourced("volume_ml", 0, 5000))
-    circuits = {}
-    for k, v in (data.get("circuits") or {}).items():
-        r = _Reader(f"apparatus.toml circuit '{k}'", v)
-        circuits[k] = CircuitType(k, r.text("label"), r.flag("rebreathing"),
-                                  r.sourced("compressible_volume_ml_cmh2o", 0, 200))
-    fg = data.get("fresh_gas") or {}
-    r = _Reader("apparatus.toml [fresh_gas]", fg)
-    fresh = {k: r.sourced(k, 0) for k in fg}
-    for need in ("non_rebreathing_minute_volume_multiple", "non_rebreathing_floor_ml_min",
-                 "non_rebreathing_below_kg", "rebreathing_maintenance_ml_kg_min",
-                 "rebreathing_induction_ml_kg_min", "rebreathing_floor_ml_min",
-                 "large_animal_circle_above_kg", "sidestream_sampling_ml_min",
-                 "large_animal_maintenance_ml_kg_min", "large_animal_induction_ml_kg_min",
-                 "direct_small_patient_below_kg"):
-        if need not in fresh:
-            raise r.fail(need, "is missing")
-    for need in ("direct_small_patient", "non_rebreathing", "rebreathing_small_animal", "rebreathing_large_animal"):
-        if need not in circuits:
-            raise DataError(f"apparatus.toml: circuit '{need}' is missing")
-    return parts, circuits, fresh
+    return _build_apparatus(FILES["apparatus.toml"].read(data))
 
 
-def parse_sourced_table(data: dict, file: str, table: str, required: tuple[str, ...] = ()) -> dict[str, Sourced]:
-    """Validate a table of ``name = { value, source }`` entries (cautions.toml, planning.toml)."""
-    body = data.get(table) or {}
-    r = _Reader(f"{file} [{table}]", body)
-    out = {k: r.sourced(k) for k in body}
+def parse_sourced_table(data: dict[str, Any], file: str, table: str,
+                        required: tuple[str, ...] = ()) -> dict[str, Sourced]:
+    """A table of ``name = { value, source }`` entries: the declared schema when ``file`` has one, else strict
+    sourced numbers without ranges (kept for callers not yet on load_resource)."""
+    if file in FILES:
+        out = dict(FILES[file].read(data)[table])
+    else:
+        body = data.get(table)
+        at = Where(file, f"[{table}]")
+        if not isinstance(body, dict):
+            raise Where(file).at(table).fail("must be a table of { value, source } entries")
+        out = {k: SourcedNumber(k).read(v, at.at(k)) for k, v in body.items()}
     for need in required:
         if need not in out:
-            raise r.fail(need, "is missing")
+            raise Where(file, f"[{table}]").at(need).fail("is missing")
     return out
 
 
-@lru_cache(maxsize=1)
-def load_library() -> Library:
-    """Load and validate species.toml, apparatus.toml, cautions.toml and planning.toml (cached)."""
-    sp_data = _load_toml(resource_path("species.toml"))
-    groups, species = parse_species(sp_data)
-    parts, circuits, fresh = parse_apparatus(_load_toml(resource_path("apparatus.toml")))
-    cautions = parse_sourced_table(_load_toml(resource_path("cautions.toml")), "cautions.toml", "thresholds")
-    planning = parse_sourced_table(_load_toml(resource_path("planning.toml")), "planning.toml", "defaults",
-                                   ("fio2", "ti_reference_s", "ti_reference_mass_kg", "ti_mass_exponent",
-                                    "reservoir_bag_vt_multiple"))
+def load_library(folder: Path | None = None) -> Library:
+    """Load and check species, apparatus, cautions and planning data from resources/ (or ``folder``), cached.
+
+    ``folder`` defaults to the shipped data, or $VENTSET_RESOURCES_DIR when that is set (ventset.resources).
+    """
+    return _load_library(resource_dir(folder))
+
+
+@lru_cache(maxsize=4)
+def _load_library(folder: Path) -> Library:
+    sp = load_resource("species.toml", folder)
+    groups, species = _build_species(sp)
+    parts, circuits, fresh = _build_apparatus(load_resource("apparatus.toml", folder))
     return Library(species=species, groups=groups, parts=parts, circuits=circuits, fresh_gas=fresh,
-                   species_version=str(sp_data.get("data_version", "1")), cautions=cautions, planning=planning)
+                   species_version=sp["data_version"],
+                   cautions=dict(load_resource("cautions.toml", folder)["thresholds"]),
+                   planning=dict(load_resource("planning.toml", folder)["defaults"]))
+
+
+load_library.cache_clear = _load_library.cache_clear  # type: ignore[attr-defined]

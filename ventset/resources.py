@@ -1,15 +1,31 @@
-"""The one accessor for files shipped in resources/ (works installed or from a checkout)."""
+"""The one accessor for files shipped in resources/ (works installed or from a checkout).
+
+``$VENTSET_RESOURCES_DIR`` (or an explicit ``folder``) points every loader at another folder holding the
+same files, e.g. a test's mutated copy or a data set under review.
+"""
 
 from __future__ import annotations
 
+import os
 from importlib.resources import files
 from pathlib import Path
 
+RESOURCES_DIR_ENV = "VENTSET_RESOURCES_DIR"
 
-def resource_path(name: str) -> Path:
-    """Return the path of a shipped data file, e.g. ``resource_path("species.toml")``."""
-    packaged = files("ventset") / "_resources" / name
-    if packaged.is_file():
+
+def resource_dir(folder: Path | str | None = None) -> Path:
+    """The folder the data files are read from: ``folder``, else $VENTSET_RESOURCES_DIR, else the shipped one."""
+    if folder is not None:
+        return Path(folder)
+    override = os.environ.get(RESOURCES_DIR_ENV, "").strip()
+    if override:
+        return Path(override)
+    packaged = files("ventset") / "_resources"
+    if (packaged / "species.toml").is_file():
         return Path(str(packaged))
-    checkout = Path(__file__).resolve().parent.parent / "resources" / name
-    return checkout
+    return Path(__file__).resolve().parent.parent / "resources"
+
+
+def resource_path(name: str, folder: Path | str | None = None) -> Path:
+    """Return the path of a data file, e.g. ``resource_path("species.toml")`` (see ``resource_dir``)."""
+    return resource_dir(folder) / name

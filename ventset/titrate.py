@@ -20,12 +20,11 @@ from ventset import __version__
 from ventset.cautions import LIMIT_WORDS, SEVERITY_ORDER
 from ventset.errors import DataError, InputError
 from ventset.fields import FIELDS, FieldSpec
-from ventset.library import Library, Sourced, _load_toml, load_library, parse_sourced_table
+from ventset.library import Library, Sourced, load_library, load_resource
 from ventset.model import STANDING_NOTICE, Caution, Limits, Plan, Request
 from ventset.physiology import deadspace, gas, metabolism
 from ventset.planner import Choice, breath_alveolar_ml, choose_settings, plan
 from ventset.report import _num, caution_lines, patient_to_dict
-from ventset.resources import resource_path
 from ventset.units import check_range, fmt, gas_units_in_text, parse_quantity
 
 PREFERENCES = ("rate", "tidal_volume", "both")
@@ -155,31 +154,9 @@ class TitrationData:
 
 @lru_cache(maxsize=1)
 def load_titration_data() -> TitrationData:
-    """Load and validate resources/titration.toml and resources/oxygenation.toml (cached)."""
-    t = _load_toml(resource_path("titration.toml"))
-    defaults = parse_sourced_table(t, "titration.toml", "defaults", (
-        "max_step_fraction", "remeasure_etco2_min", "remeasure_etco2_max_min", "remeasure_blood_gas_min",
-        "gradient_widening_mmhg", "paco2_high_caution_mmhg", "paco2_high_danger_mmhg", "paco2_low_caution_mmhg"))
-    if not 0 < defaults["max_step_fraction"].value < 1:
-        raise DataError("titration.toml [defaults]: max_step_fraction must be between 0 and 1")
-    o = _load_toml(resource_path("oxygenation.toml"))
-    oxygen = parse_sourced_table(o, "oxygenation.toml", "thresholds", (
-        "expected_pao2_per_fio2_percent", "pao2_hypoxaemia_mmhg", "pao2_severe_hypoxaemia_mmhg",
-        "spo2_caution_percent", "spo2_danger_percent"))
-    bands = []
-    for i, b in enumerate(o.get("pf_bands") or []):
-        where = f"oxygenation.toml pf_bands[{i}]"
-        try:
-            band = Band(str(b["scheme"]), str(b["code"]), str(b["label"]), float(b["limit_mmhg"]),
-                        bool(b["inclusive"]), str(b["source"]))
-        except (KeyError, TypeError, ValueError) as exc:
-            raise DataError(f"{where}: needs scheme, code, label, limit_mmhg, inclusive and source ({exc})") from None
-        if not band.source.strip() or not math.isfinite(band.limit_mmhg) or band.limit_mmhg <= 0:
-            raise DataError(f"{where}: needs a positive limit_mmhg and a source")
-        bands.append(band)
-    if not bands:
-        raise DataError("oxygenation.toml: no [[pf_bands]]")
-    return TitrationData(defaults, oxygen, tuple(bands))
+    """Load and validate resources/titration.toml and resources/oxygenation.toml (cached; ventset/datafiles.py)."""
+    t, o = load_resource("titration.toml"), load_resource("oxygenation.toml")
+    return TitrationData(dict(t["defaults"]), dict(o["thresholds"]), tuple(Band(**b) for b in o["pf_bands"]))
 
 
 def _c(severity: str, code: str, message: str, **values: float) -> Caution:
