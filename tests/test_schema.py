@@ -131,7 +131,7 @@ def test_titration_loader_reads_the_declared_files():
 
 def test_schema_md_is_generated_from_the_declarations():
     committed = (RES / "SCHEMA.md").read_text(encoding="utf-8")
-    assert committed == schema_markdown(), "run: .venv/bin/python -m ventset.schema --write"
+    assert committed == schema_markdown(), "run: .venv/bin/python -m ventset.datafiles --write"
 
 
 def test_schema_md_keeps_the_human_explanations():

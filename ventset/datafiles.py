@@ -1,7 +1,7 @@
 """The declared layout of every data file in resources/: one ``FileSchema`` each, collected in ``FILES``.
 
 The loader (``ventset.library.load_resource``) checks each file against its declaration and
-resources/SCHEMA.md is generated from it (``python -m ventset.schema --write``). A new optional field is
+resources/SCHEMA.md is generated from it (``python -m ventset.datafiles --write``). A new optional field is
 one declaration with ``required=False`` and a ``default``; a new file is one ``FileSchema`` added to FILES.
 Bounds that match a user input reuse that input's hard limits (``ventset.fields.FIELDS``), so a shipped
 default can never be a value the user could not enter.
@@ -9,6 +9,9 @@ default can never be a value the user could not enter.
 
 from __future__ import annotations
 
+import sys
+from collections.abc import Sequence
+from pathlib import Path
 from typing import Any
 
 from ventset.fields import FIELDS
@@ -395,7 +398,7 @@ FILES: dict[str, FileSchema] = {f.name: f for f in (SPECIES, APPARATUS, CAUTIONS
 
 PREAMBLE = f"""# Data file reference (resources/*.toml)
 
-Generated from `ventset/datafiles.py` by `python -m ventset.schema --write`; do not edit by hand
+Generated from `ventset/datafiles.py` by `python -m ventset.datafiles --write`; do not edit by hand
 (`tests/test_schema.py` fails when this file and the declarations differ).
 
 - Every number a plan may use carries a `source`: {SOURCE_HELP}.
@@ -414,3 +417,26 @@ Generated from `ventset/datafiles.py` by `python -m ventset.schema --write`; do 
 def schema_markdown() -> str:
     """The generated text of resources/SCHEMA.md."""
     return render_markdown(list(FILES.values()), PREAMBLE)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """``python -m ventset.datafiles [--write]``: print (or write to resources/SCHEMA.md) the generated reference."""
+    args = list(sys.argv[1:] if argv is None else argv)
+    text = schema_markdown()
+    if args == ["--write"]:
+        target = Path(__file__).resolve().parent.parent / "resources" / "SCHEMA.md"
+        if not target.parent.is_dir():
+            print(f"no checkout here: {target.parent} does not exist", file=sys.stderr)
+            return 2
+        target.write_text(text, encoding="utf-8")
+        print(f"wrote {target}")
+    elif not args:
+        sys.stdout.write(text)
+    else:
+        print("usage: python -m ventset.datafiles [--write]", file=sys.stderr)
+        return 2
+    return 0
+
+
+if __name__ == "__main__":  # python -m ventset.datafiles [--write]
+    raise SystemExit(main())

@@ -492,9 +492,3 @@ class FileSchema:
             raise at.at("schema_version").fail(f"must be {self.version} (got {shown(version)})")
         body = {k: v for k, v in document.items() if k != "schema_version"}
         return Table(self.name, fields=self.fields, checks=self.checks).read_table(body, at)
-
-
-if __name__ == "__main__":  # python -m ventset.schema [--write]
-    from ventset.schema_doc import main
-
-    raise SystemExit(main())

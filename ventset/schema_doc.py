@@ -1,10 +1,8 @@
-"""resources/SCHEMA.md, generated from the declared schema: ``python -m ventset.schema [--write]``."""
+"""resources/SCHEMA.md, generated from the declared schema: ``python -m ventset.datafiles [--write]``."""
 
 from __future__ import annotations
 
-import sys
 from collections.abc import Sequence
-from pathlib import Path
 
 from ventset.schema import Entries, Field, FileSchema, Number, Section, Table, TableList, default_text
 
@@ -56,24 +54,3 @@ def render_markdown(files: Sequence[FileSchema], preamble: str) -> str:
     for fs in files:
         out += _render_file(fs)
     return "\n".join(out).rstrip() + "\n"
-
-
-def main(argv: Sequence[str] | None = None) -> int:
-    """``python -m ventset.schema [--write]``: print (or write to resources/SCHEMA.md) the generated reference."""
-    from ventset.datafiles import schema_markdown
-
-    args = list(sys.argv[1:] if argv is None else argv)
-    text = schema_markdown()
-    if args == ["--write"]:
-        target = Path(__file__).resolve().parent.parent / "resources" / "SCHEMA.md"
-        if not target.parent.is_dir():
-            print(f"no checkout here: {target.parent} does not exist", file=sys.stderr)
-            return 2
-        target.write_text(text, encoding="utf-8")
-        print(f"wrote {target}")
-    elif not args:
-        sys.stdout.write(text)
-    else:
-        print("usage: python -m ventset.schema [--write]", file=sys.stderr)
-        return 2
-    return 0
