@@ -1,7 +1,8 @@
 """Caution rules: each reads a finished plan and returns zero or more Caution records.
 
 A rule is a small function ``(ctx) -> list[Caution]``; add it to RULES. Thresholds live in
-resources/cautions.toml with their sources. Messages name the numbers that triggered them.
+resources/cautions.toml with their sources. Messages are templates that name the numbers that
+triggered them by unit suffix (``{pao2_mmhg}``), so they are shown in the reader's units.
 """
 
 from __future__ import annotations
@@ -12,7 +13,6 @@ from dataclasses import dataclass, replace
 
 from ventset.library import Library, Species
 from ventset.model import Caution, Plan
-from ventset.units import fmt
 
 SEVERITY_ORDER = {"danger": 0, "caution": 1, "info": 2}
 
@@ -25,6 +25,8 @@ LIMIT_WORDS = {
     "fixed_by_user": "the tidal volume and rate entered",
     "pressure_limit_below_vt_min": "the pressure limit, which allows less than the smallest usual tidal volume",
 }
+# Plans that only evaluate given settings (titration, machine dials) make no choice to report.
+NOT_CHOSEN = frozenset({"fixed_by_user", "evaluated"})
 
 
 @dataclass(frozen=True)
@@ -32,23 +34,45 @@ class Context:
     plan: Plan
     species: Species
     threshold: dict[str, float]
-    binding: tuple[str, ...]
-    preferred_vt_ml: float
-    preferred_rate_per_min: float
+
+    @property
+    def binding(self) -> tuple[str, ...]:
+        return self.plan.limits.binding
+
+    @property
+    def chosen(self) -> bool:
+        """True when the planner chose the settings (rather than evaluating settings it was given)."""
+        return not NOT_CHOSEN & set(self.binding)
 
 
-def _c(severity: str, code: str, message: str, **values: float) -> Caution:
-    return Caution(severity, code, message, tuple((k, round(float(v), 4)) for k, v in values.items()))
+def caution(severity: str, code: str, template: str, texts: dict[str, str] | None = None, **values: float) -> Caution:
+    """A Caution with its numbers (named by unit suffix) and words kept apart from the sentence."""
+    return Caution(severity, code, template, tuple((k, float(v)) for k, v in values.items()),
+                   tuple((texts or {}).items()))
+
+
+def limit_words(binding: tuple[str, ...]) -> str:
+    return " and ".join(LIMIT_WORDS.get(b, b) for b in binding if b in LIMIT_WORDS)
+
+
+def _band(x: Context) -> tuple[float, float]:
+    b = x.species.paco2_target_mmhg
+    return b.min, b.max
+
+
+def _in_band(x: Context, paco2_mmhg: float) -> bool:
+    lo, hi = _band(x)
+    return lo <= paco2_mmhg <= hi
 
 
 def tidal_volume_below_dead_space(x: Context) -> list[Caution]:
     v, d = x.plan.ventilation, x.plan.dead_space
     if v.tidal_volume_ml > d.total_ml:
         return []
-    return [_c("danger", "VT_NOT_ABOVE_DEAD_SPACE",
-               f"Tidal volume {fmt(v.tidal_volume_ml)} mL is not above the total dead space {fmt(d.total_ml)} mL: "
-               "no alveolar ventilation. Remove apparatus dead space or raise the tidal volume.",
-               vt_ml=v.tidal_volume_ml, dead_space_ml=d.total_ml)]
+    return [caution("danger", "VT_NOT_ABOVE_DEAD_SPACE",
+                    "Tidal volume {vt_ml} is not above the total dead space {dead_space_ml}: no alveolar "
+                    "ventilation. Remove apparatus dead space or raise the tidal volume.",
+                    vt_ml=v.tidal_volume_ml, dead_space_ml=d.total_ml)]
 
 
 def apparatus_share(x: Context) -> list[Caution]:
@@ -64,41 +88,44 @@ def apparatus_share(x: Context) -> list[Caution]:
     else:
         return []
     biggest = max(d.parts, key=lambda p: p.volume_ml, default=None)
-    worst = (f" The largest part is '{biggest.name}' ({fmt(biggest.volume_ml)} mL)."
-             if biggest and biggest.volume_ml > d.tube_ml else "")
-    return [_c(sev, "APPARATUS_DEAD_SPACE",
-               f"Apparatus and tube dead space {fmt(app)} mL is {fmt(share * 100, 2)} % of the "
-               f"{fmt(v.tidal_volume_ml)} mL breath.{worst} Use smaller connectors, cut the tube to length, "
-               "and confirm ventilation with capnography.",
-               apparatus_ml=app, share=share)]
+    extra = ""
+    texts = {}
+    values = {"apparatus_ml": app, "share_percent": share * 100, "vt_ml": v.tidal_volume_ml}
+    if biggest and biggest.volume_ml > d.tube_ml:
+        extra = " The largest part is '{part}' ({part_ml})."
+        texts["part"] = biggest.name
+        values["part_ml"] = biggest.volume_ml
+    return [caution(sev, "APPARATUS_DEAD_SPACE",
+                    "Apparatus and tube dead space {apparatus_ml} is {share_percent} of the {vt_ml} breath." + extra
+                    + " Use smaller connectors, cut the tube to length, and confirm ventilation with capnography.",
+                    texts, **values)]
 
 
 def plateau_above_limit(x: Context) -> list[Caution]:
     pr = x.plan.pressures
-    out = []
     if pr.plateau_cmh2o > pr.pressure_limit_cmh2o + 1e-9:
-        out.append(_c("danger", "PLATEAU_ABOVE_LIMIT",
-                      f"Predicted plateau {fmt(pr.plateau_cmh2o)} cmH2O is above the pressure limit "
-                      f"{fmt(pr.pressure_limit_cmh2o)} cmH2O. Lower the tidal volume or check compliance.",
-                      plateau_cmh2o=pr.plateau_cmh2o, limit_cmh2o=pr.pressure_limit_cmh2o))
-    elif pr.peak_cmh2o > pr.pressure_limit_cmh2o + 1e-9:
+        return [caution("danger", "PLATEAU_ABOVE_LIMIT",
+                        "Predicted plateau {plateau_cmh2o} is above the pressure limit {limit_cmh2o}. Lower the "
+                        "tidal volume or check compliance.", plateau_cmh2o=pr.plateau_cmh2o,
+                        limit_cmh2o=pr.pressure_limit_cmh2o)]
+    if pr.peak_cmh2o > pr.pressure_limit_cmh2o + 1e-9:
         what = "inspiratory pressure" if x.plan.resolved.mode == "pressure" else "peak pressure"
-        out.append(_c("caution", "PEAK_ABOVE_LIMIT",
-                      f"Predicted {what} {fmt(pr.peak_cmh2o)} cmH2O is above the pressure limit "
-                      f"{fmt(pr.pressure_limit_cmh2o)} cmH2O (plateau {fmt(pr.plateau_cmh2o)} cmH2O). "
-                      "Lengthen inspiration, use a wider tube, or accept a higher limit if the clinician judges so.",
-                      peak_cmh2o=pr.peak_cmh2o, limit_cmh2o=pr.pressure_limit_cmh2o))
-    return out
+        return [caution("caution", "PEAK_ABOVE_LIMIT",
+                        "Predicted {what} {peak_cmh2o} is above the pressure limit {limit_cmh2o} (plateau "
+                        "{plateau_cmh2o}). Lengthen inspiration, use a wider tube, or accept a higher limit if the "
+                        "clinician judges so.", {"what": what}, peak_cmh2o=pr.peak_cmh2o,
+                        limit_cmh2o=pr.pressure_limit_cmh2o, plateau_cmh2o=pr.plateau_cmh2o)]
+    return []
 
 
 def driving_pressure(x: Context) -> list[Caution]:
     pr = x.plan.pressures
-    if pr.driving_cmh2o <= x.threshold["driving_pressure_caution_cmh2o"]:
+    limit = x.threshold["driving_pressure_caution_cmh2o"]
+    if pr.driving_cmh2o <= limit:
         return []
-    return [_c("caution", "DRIVING_PRESSURE_HIGH",
-               f"Predicted driving pressure {fmt(pr.driving_cmh2o)} cmH2O (plateau − PEEP) is above "
-               f"{fmt(x.threshold['driving_pressure_caution_cmh2o'])} cmH2O: the breath may over-stretch the lung.",
-               driving_cmh2o=pr.driving_cmh2o)]
+    return [caution("caution", "DRIVING_PRESSURE_HIGH",
+                    "Predicted driving pressure {driving_cmh2o} (plateau − PEEP) is above {limit_cmh2o}: the "
+                    "breath may over-stretch the lung.", driving_cmh2o=pr.driving_cmh2o, limit_cmh2o=limit)]
 
 
 def short_expiration(x: Context) -> list[Caution]:
@@ -107,11 +134,11 @@ def short_expiration(x: Context) -> list[Caution]:
     if n_tau >= x.threshold["expiration_tau_caution"]:
         return []
     sev = "danger" if n_tau < x.threshold["expiration_tau_danger"] else "caution"
-    trapped = math.exp(-n_tau) * 100
-    return [_c(sev, "SHORT_EXPIRATION",
-               f"Expiration {fmt(v.te_s)} s is only {fmt(n_tau, 2)} time constants (τ = {fmt(pr.time_constant_s)} s): "
-               f"about {fmt(trapped, 2)} % of the breath is left in the lung (gas trapping, auto-PEEP). "
-               "Lower the rate or lengthen expiration (I:E).", te_s=v.te_s, tau_s=pr.time_constant_s)]
+    return [caution(sev, "SHORT_EXPIRATION",
+                    "Expiration {te_s} is only {time_constants} time constants (τ = {tau_s}): about "
+                    "{trapped_percent} of the breath is left in the lung (gas trapping, auto-PEEP). Lower the rate "
+                    "or lengthen expiration (I:E).", te_s=v.te_s, time_constants=n_tau, tau_s=pr.time_constant_s,
+                    trapped_percent=math.exp(-n_tau) * 100)]
 
 
 def short_inspiration_pressure_mode(x: Context) -> list[Caution]:
@@ -121,83 +148,83 @@ def short_inspiration_pressure_mode(x: Context) -> list[Caution]:
     n_tau = v.ti_s / pr.time_constant_s
     if n_tau >= x.threshold["inspiration_tau_pressure_mode"]:
         return []
-    return [_c("info", "SHORT_INSPIRATION",
-               f"Inspiration {fmt(v.ti_s)} s is {fmt(n_tau, 2)} time constants: in a pressure mode the lung does not "
-               f"fill completely, so the inspiratory pressure is {fmt(pr.inspiratory_pressure_cmh2o)} cmH2O above PEEP "
-               f"rather than {fmt(pr.driving_cmh2o)}.", ti_s=v.ti_s, tau_s=pr.time_constant_s)]
+    return [caution("info", "SHORT_INSPIRATION",
+                    "Inspiration {ti_s} is {time_constants} time constants: in a pressure mode the lung does not "
+                    "fill completely, so the inspiratory pressure is {rise_cmh2o} above PEEP rather than "
+                    "{driving_cmh2o}.", ti_s=v.ti_s, time_constants=n_tau, rise_cmh2o=pr.inspiratory_pressure_cmh2o,
+                    driving_cmh2o=pr.driving_cmh2o)]
+
+
+def _rate_needed(x: Context) -> float:
+    v, s = x.plan.ventilation, x.plan.subject
+    return s.rate_for_vt(v.alveolar_ml_min, v.tidal_volume_ml) if s is not None else math.inf
 
 
 def settings_fixed(x: Context) -> list[Caution]:
     v = x.plan.ventilation
-    if "fixed_by_user" not in x.binding:
-        return []
+    if "fixed_by_user" not in x.binding or not math.isfinite(v.expected_paco2_mmhg):
+        return []  # VT_NOT_ABOVE_DEAD_SPACE says it when nothing exchanges gas
     lean = x.plan.resolved.lean_mass_kg
-    band = x.species.paco2_target_mmhg
-    d = x.plan.dead_space
-    vd_fixed = d.total_ml - d.alveolar_ml
-    eff = v.tidal_volume_ml * (1 - x.plan.resolved.alveolar_dead_space_fraction) - vd_fixed
-    if not math.isfinite(v.expected_paco2_mmhg) or eff <= 0:
-        return []  # VT_NOT_ABOVE_DEAD_SPACE says it
-    need = v.alveolar_ml_min / eff
-    within = band.min <= v.expected_paco2_mmhg <= band.max
-    return [_c("info" if within else "caution", "SETTINGS_FIXED",
-               f"Tidal volume ({fmt(v.tidal_volume_ml / lean)} mL/kg) and rate ({fmt(v.rate_per_min)}/min) are both "
-               f"fixed as entered: expected PaCO2 {fmt(v.expected_paco2_mmhg)} mmHg against a target of "
-               f"{fmt(v.target_paco2_mmhg)} mmHg" + (f" (inside the usual {fmt(band.min)}–{fmt(band.max)} mmHg)"
-                                                    if within else "")
-               + f". The target needs {fmt(need)}/min at this tidal volume. Clear one of them to let ventset solve.",
-               expected_mmhg=v.expected_paco2_mmhg, target_mmhg=v.target_paco2_mmhg)]
+    lo, hi = _band(x)
+    within = _in_band(x, v.expected_paco2_mmhg)
+    far = v.expected_paco2_mmhg > x.threshold["paco2_danger_high_mmhg"] or \
+        v.expected_paco2_mmhg < x.threshold["paco2_danger_low_mmhg"]
+    sev = "info" if within else "danger" if far else "caution"
+    band = " (inside the usual {lo_mmhg}–{hi_mmhg})" if within else ""
+    return [caution(sev, "SETTINGS_FIXED",
+                    "Tidal volume ({vt_ml_kg}) and rate ({rate_per_min}) are both fixed as entered: expected PaCO2 "
+                    "{expected_mmhg} against a target of {target_mmhg}" + band + ". The target needs "
+                    "{need_per_min} at this tidal volume. Clear one of them to let ventset solve.",
+                    vt_ml_kg=v.tidal_volume_ml / lean, rate_per_min=v.rate_per_min,
+                    expected_mmhg=v.expected_paco2_mmhg, target_mmhg=v.target_paco2_mmhg, lo_mmhg=lo, hi_mmhg=hi,
+                    need_per_min=_rate_needed(x))]
 
 
 def target_unreachable(x: Context) -> list[Caution]:
     v = x.plan.ventilation
-    if v.target_reached or "fixed_by_user" in x.binding:
+    if v.target_reached or not x.chosen:
         return []
-    limits = " and ".join(LIMIT_WORDS.get(b, b) for b in x.binding if b in LIMIT_WORDS)
-    d, lean = x.plan.dead_space, x.plan.resolved.lean_mass_kg
-    f_alv = x.plan.resolved.alveolar_dead_space_fraction
-    vd_fixed = d.total_ml - d.alveolar_ml
-    need_rate = v.alveolar_ml_min / (v.tidal_volume_ml * (1 - f_alv) - vd_fixed) if (
-        v.tidal_volume_ml * (1 - f_alv) > vd_fixed) else math.inf
-    band = x.species.paco2_target_mmhg
+    limits, lean = limit_words(x.binding), x.plan.resolved.lean_mass_kg
+    lo, hi = _band(x)
     if not math.isfinite(v.expected_paco2_mmhg):
-        return [_c("danger", "TARGET_UNREACHABLE",
-                   f"No setting inside the limits ventilates the alveoli at all: every breath up to "
-                   f"{fmt(v.tidal_volume_ml)} mL ({fmt(v.tidal_volume_ml / lean)} mL/kg, limited by {limits}) is "
-                   f"used up by {fmt(vd_fixed)} mL of fixed dead space. Remove apparatus dead space first.",
-                   target_mmhg=v.target_paco2_mmhg)]
+        d = x.plan.dead_space
+        return [caution("danger", "TARGET_UNREACHABLE",
+                        "No setting inside the limits ventilates the alveoli at all: every breath up to {vt_ml} "
+                        "({vt_ml_kg}, limited by {limits}) is used up by {fixed_ml} of fixed dead space. Remove "
+                        "apparatus dead space first.", {"limits": limits}, vt_ml=v.tidal_volume_ml,
+                        vt_ml_kg=v.tidal_volume_ml / lean, fixed_ml=d.total_ml - d.alveolar_ml,
+                        target_mmhg=v.target_paco2_mmhg)]
+    within = _in_band(x, v.expected_paco2_mmhg)
+    need = _rate_needed(x)
+    values = dict(target_mmhg=v.target_paco2_mmhg, expected_mmhg=v.expected_paco2_mmhg, lo_mmhg=lo, hi_mmhg=hi,
+                  need_per_min=need, vt_ml_kg=v.tidal_volume_ml / lean)
     if v.expected_paco2_mmhg > v.target_paco2_mmhg:
-        within = band.min <= v.expected_paco2_mmhg <= band.max
-        need = (f" Reaching it would need {fmt(need_rate)}/min at this tidal volume."
-                if math.isfinite(need_rate) else "")
-        return [_c("caution" if within else "danger", "TARGET_UNREACHABLE",
-                   f"No setting inside the limits reaches PaCO2 {fmt(v.target_paco2_mmhg)} mmHg; limited by {limits}. "
-                   f"These settings are expected to give PaCO2 {fmt(v.expected_paco2_mmhg)} mmHg"
-                   + (f", still inside the usual {fmt(band.min)}–{fmt(band.max)} mmHg." if within else
-                      " (hypercapnia).") + need
-                   + " Reduce dead space, or widen a limit only if the clinician judges it safe.",
-                   target_mmhg=v.target_paco2_mmhg, expected_mmhg=v.expected_paco2_mmhg)]
-    within = band.min <= v.expected_paco2_mmhg <= band.max
-    return [_c("info" if within else "caution", "TARGET_BELOW_LIMITS",
-               f"Even the smallest settings inside the limits over-ventilate: expected PaCO2 "
-               f"{fmt(v.expected_paco2_mmhg)} mmHg against a target of {fmt(v.target_paco2_mmhg)} mmHg "
-               f"(limited by {limits}); the target would need {fmt(need_rate, 2)}/min at "
-               f"{fmt(v.tidal_volume_ml / lean)} mL/kg. Consider a lower rate, a longer pause between breaths, "
-               "or assisted spontaneous breathing, guided by EtCO2.",
-               target_mmhg=v.target_paco2_mmhg, expected_mmhg=v.expected_paco2_mmhg)]
+        tail = ", still inside the usual {lo_mmhg}–{hi_mmhg}." if within else " (hypercapnia)."
+        need_txt = " Reaching it would need {need_per_min} at this tidal volume." if math.isfinite(need) else ""
+        return [caution("caution" if within else "danger", "TARGET_UNREACHABLE",
+                        "No setting inside the limits reaches PaCO2 {target_mmhg}; limited by {limits}. These "
+                        "settings are expected to give PaCO2 {expected_mmhg}" + tail + need_txt
+                        + " Reduce dead space, or widen a limit only if the clinician judges it safe.",
+                        {"limits": limits}, **values)]
+    return [caution("info" if within else "caution", "TARGET_BELOW_LIMITS",
+                    "Even the smallest settings inside the limits over-ventilate: expected PaCO2 {expected_mmhg} "
+                    "against a target of {target_mmhg} (limited by {limits}); the target would need {need_per_min} "
+                    "at {vt_ml_kg}. Consider a lower rate, a longer pause between breaths, or assisted spontaneous "
+                    "breathing, guided by EtCO2.", {"limits": limits}, **values)]
 
 
 def limit_moved_the_plan(x: Context) -> list[Caution]:
-    v = x.plan.ventilation
-    if not v.target_reached or not x.binding or "fixed_by_user" in x.binding:
+    v, lim = x.plan.ventilation, x.plan.limits
+    if not v.target_reached or not x.binding or not x.chosen:
         return []
     lean = x.plan.resolved.lean_mass_kg
-    limits = " and ".join(LIMIT_WORDS.get(b, b) for b in x.binding)
-    rate_txt = "—" if not math.isfinite(x.preferred_rate_per_min) else fmt(x.preferred_rate_per_min)
-    return [_c("info", "LIMIT_BINDING",
-               f"The starting point ({fmt(x.preferred_vt_ml / lean)} mL/kg at {rate_txt}/min) was moved along the "
-               f"line of equal PaCO2 to stay within {limits}: now {fmt(v.tidal_volume_ml / lean)} mL/kg at "
-               f"{fmt(v.rate_per_min)}/min.", preferred_vt_ml=x.preferred_vt_ml, vt_ml=v.tidal_volume_ml)]
+    start = "{pref_ml_kg} at {pref_per_min}" if math.isfinite(lim.preferred_rate_per_min) else \
+        "{pref_ml_kg} (a breath no larger than the dead space)"
+    return [caution("info", "LIMIT_BINDING",
+                    "The starting point (" + start + ") was moved along the line of equal PaCO2 to stay within "
+                    "{limits}: now {vt_ml_kg} at {rate_per_min}.", {"limits": limit_words(x.binding)},
+                    pref_ml_kg=lim.preferred_vt_ml / lean, pref_per_min=lim.preferred_rate_per_min,
+                    vt_ml_kg=v.tidal_volume_ml / lean, rate_per_min=v.rate_per_min)]
 
 
 def outside_species_range(x: Context) -> list[Caution]:
@@ -205,14 +232,16 @@ def outside_species_range(x: Context) -> list[Caution]:
     out = []
     vt_kg = v.tidal_volume_ml / lean
     if not sp.tidal_volume_ml_kg.min - 1e-9 <= vt_kg <= sp.tidal_volume_ml_kg.max + 1e-9:
-        out.append(_c("caution", "VT_OUTSIDE_RANGE",
-                      f"Tidal volume {fmt(vt_kg)} mL/kg is outside the usual {fmt(sp.tidal_volume_ml_kg.min)}–"
-                      f"{fmt(sp.tidal_volume_ml_kg.max)} mL/kg for {sp.label}.", vt_ml_kg=vt_kg))
+        out.append(caution("caution", "VT_OUTSIDE_RANGE",
+                           "Tidal volume {vt_ml_kg} is outside the usual {lo_ml_kg}–{hi_ml_kg} for {species}.",
+                           {"species": sp.label}, vt_ml_kg=vt_kg, lo_ml_kg=sp.tidal_volume_ml_kg.min,
+                           hi_ml_kg=sp.tidal_volume_ml_kg.max))
     rates = sp.rate_span_for(lean)
     if not rates.min - 1e-9 <= v.rate_per_min <= rates.max + 1e-9:
-        out.append(_c("caution", "RATE_OUTSIDE_RANGE",
-                      f"Rate {fmt(v.rate_per_min)}/min is outside the usual {fmt(rates.min)}–"
-                      f"{fmt(rates.max)}/min for {sp.label} of {fmt(lean)} kg.", rate_per_min=v.rate_per_min))
+        out.append(caution("caution", "RATE_OUTSIDE_RANGE",
+                           "Rate {rate_per_min} is outside the usual {lo_per_min}–{hi_per_min} for {species} of "
+                           "{lean_kg}.", {"species": sp.label}, rate_per_min=v.rate_per_min, lo_per_min=rates.min,
+                           hi_per_min=rates.max, lean_kg=lean))
     return out
 
 
@@ -223,12 +252,11 @@ def compressible_volume(x: Context) -> list[Caution]:
     share = pr.compressed_ml / v.tidal_volume_ml
     if share < x.threshold["compressible_share_caution"]:
         return []
-    return [_c("caution", "CIRCUIT_COMPRESSION",
-               f"The circuit absorbs about {fmt(pr.compressed_ml)} mL per breath ({fmt(share * 100, 2)} % of the "
-               f"{fmt(v.tidal_volume_ml)} mL the patient needs), so the set volume is "
-               f"{fmt(v.set_tidal_volume_ml)} mL. Check delivered volume with spirometry; a low-compliance circuit "
-               "or a pressure mode is more predictable.",
-               compressed_ml=pr.compressed_ml)]
+    return [caution("caution", "CIRCUIT_COMPRESSION",
+                    "The circuit absorbs about {compressed_ml} per breath ({share_percent} of the {vt_ml} the "
+                    "patient needs), so the set volume is {set_ml}. Check delivered volume with spirometry; a "
+                    "low-compliance circuit or a pressure mode is more predictable.", compressed_ml=pr.compressed_ml,
+                    share_percent=share * 100, vt_ml=v.tidal_volume_ml, set_ml=v.set_tidal_volume_ml)]
 
 
 def metabolic_plausibility(x: Context) -> list[Caution]:
@@ -239,117 +267,140 @@ def metabolic_plausibility(x: Context) -> list[Caution]:
     lim = x.threshold["metabolic_ratio_caution"]
     if 1 / lim <= ratio <= lim:
         return []
-    return [_c("caution", "METABOLIC_RATE_UNUSUAL",
-               f"Entered metabolic rate {fmt(m.metabolic_rate_w)} W is {fmt(ratio, 2)} × the allometric estimate "
-               f"({fmt(m.allometric_rate_w)} W). Check the value and its unit.", ratio=ratio)]
+    return [caution("caution", "METABOLIC_RATE_UNUSUAL",
+                    "Entered metabolic rate {entered_w} is {ratio} × the allometric estimate ({estimate_w}). Check "
+                    "the value and its unit.", entered_w=m.metabolic_rate_w, ratio=ratio,
+                    estimate_w=m.allometric_rate_w)]
 
 
 def body_temperature(x: Context) -> list[Caution]:
-    t, sp = x.plan.resolved.body_temp_c, x.species
-    rng = sp.body_temperature_c
+    t, rng = x.plan.resolved.body_temp_c, x.species.body_temperature_c
     if rng.min <= t <= rng.max:
         return []
-    ecto = sp.group.key == "reptile"
-    low = t < rng.min
-    if ecto:
-        msg = (f"Body temperature {fmt(t)} °C is {'below' if low else 'above'} the preferred zone {fmt(rng.min)}–"
-               f"{fmt(rng.max)} °C: metabolism, drug handling and recovery change; warm or cool towards the zone.")
-    elif low:
-        msg = (f"Body temperature {fmt(t)} °C is below the normal {fmt(rng.min)}–{fmt(rng.max)} °C: CO2 output and "
-               "the ventilation needed fall as the patient cools; re-titrate to EtCO2 and actively warm.")
-    else:
-        msg = (f"Body temperature {fmt(t)} °C is above normal: CO2 output rises; rule out malignant hyperthermia "
-               "(rising EtCO2 with rising temperature).")
-    return [_c("caution", "BODY_TEMPERATURE", msg, body_temp_c=t)]
+    values = dict(body_temp_c=t, lo_c=rng.min, hi_c=rng.max)
+    if x.species.group.key.startswith("reptile"):
+        where = "below" if t < rng.min else "above"
+        return [caution("caution", "BODY_TEMPERATURE",
+                        "Body temperature {body_temp_c} is {where} the preferred zone {lo_c}–{hi_c}: metabolism, drug "
+                        "handling and recovery change; warm or cool towards the zone.", {"where": where}, **values)]
+    if t < rng.min:
+        return [caution("caution", "BODY_TEMPERATURE",
+                        "Body temperature {body_temp_c} is below the normal {lo_c}–{hi_c}: CO2 output and the "
+                        "ventilation needed fall as the patient cools; re-titrate to EtCO2 and actively warm.",
+                        **values)]
+    return [caution("caution", "BODY_TEMPERATURE",
+                    "Body temperature {body_temp_c} is above normal: CO2 output rises; rule out malignant "
+                    "hyperthermia (rising EtCO2 with rising temperature).", **values)]
 
 
 def oxygenation(x: Context) -> list[Caution]:
-    o = x.plan.oxygen
+    o, ev = x.plan.oxygen, x.plan.evaluation
+    if ev is not None and ev.pao2_floored:
+        return [caution("danger", "NO_ALVEOLAR_O2",
+                        "At FiO2 {fio2} and barometric pressure {barometric_mmhg} the alveolar gas equation leaves no "
+                        "oxygen in the alveoli at the expected PaCO2: these settings cannot sustain life. Raise FiO2 "
+                        "and ventilation now.", fio2=o.fio2, barometric_mmhg=o.barometric_mmhg)]
     if o.pao2_alveolar_mmhg >= x.threshold["pao2_caution_mmhg"]:
         return []
     sev = "danger" if o.pao2_alveolar_mmhg < x.threshold["pao2_danger_mmhg"] else "caution"
-    return [_c(sev, "LOW_ALVEOLAR_O2",
-               f"Expected alveolar PO2 is only {fmt(o.pao2_alveolar_mmhg)} mmHg at FiO2 {fmt(o.fio2)} and barometric "
-               f"pressure {fmt(o.barometric_mmhg)} mmHg; arterial PO2 will be lower still. Raise FiO2.",
-               pao2_mmhg=o.pao2_alveolar_mmhg)]
+    return [caution(sev, "LOW_ALVEOLAR_O2",
+                    "Expected alveolar PO2 is only {pao2_mmhg} at FiO2 {fio2} and barometric pressure "
+                    "{barometric_mmhg}; arterial PO2 will be lower still. Raise FiO2.", pao2_mmhg=o.pao2_alveolar_mmhg,
+                    fio2=o.fio2, barometric_mmhg=o.barometric_mmhg)]
+
+
+def etco2_floor(x: Context) -> list[Caution]:
+    ev = x.plan.evaluation
+    if ev is None or not ev.etco2_floored:
+        return []
+    return [caution("danger", "GRADIENT_ABOVE_PACO2",
+                    "The PaCO2 − EtCO2 gradient {gradient_mmhg} is larger than the expected PaCO2 {paco2_mmhg}, so "
+                    "the expected EtCO2 would be below zero (shown as 0): the gradient or the settings are wrong for "
+                    "this patient. Check the gradient against a blood gas.", gradient_mmhg=x.plan.resolved.gradient_mmhg,
+                    paco2_mmhg=x.plan.ventilation.expected_paco2_mmhg)]
 
 
 def peep_high(x: Context) -> list[Caution]:
     pr = x.plan.pressures
     if pr.peep_cmh2o <= x.threshold["peep_high_cmh2o"]:
         return []
-    return [_c("caution", "PEEP_HIGH",
-               f"PEEP {fmt(pr.peep_cmh2o)} cmH2O lowers venous return and cardiac output; monitor blood pressure.",
-               peep_cmh2o=pr.peep_cmh2o)]
+    return [caution("caution", "PEEP_HIGH",
+                    "PEEP {peep_cmh2o} lowers venous return and cardiac output; monitor blood pressure.",
+                    peep_cmh2o=pr.peep_cmh2o)]
 
 
 def small_patient_capnography(x: Context) -> list[Caution]:
     if x.plan.resolved.mass_kg >= x.threshold["small_patient_sidestream_kg"]:
         return []
-    return [_c("info", "SMALL_PATIENT_CAPNOGRAPHY",
-               f"At {fmt(x.plan.resolved.mass_kg)} kg, sidestream capnography dilutes the small breath and under-reads "
-               "EtCO2: sample at the tube tip, use a low-flow or mainstream sensor, and confirm with a blood gas.")]
+    return [caution("info", "SMALL_PATIENT_CAPNOGRAPHY",
+                    "At {mass_kg}, sidestream capnography dilutes the small breath and under-reads EtCO2: sample at "
+                    "the tube tip, use a low-flow or mainstream sensor, and confirm with a blood gas.",
+                    mass_kg=x.plan.resolved.mass_kg)]
 
 
 def gradient_unreliable(x: Context) -> list[Caution]:
     if x.plan.resolved.gradient_reliable:
         return []
-    return [_c("caution", "GRADIENT_UNRELIABLE",
-               f"The PaCO2–EtCO2 gradient in {x.species.label} is large or variable "
-               f"(default {fmt(x.plan.resolved.gradient_mmhg)} mmHg): treat EtCO2 as a trend and calibrate it "
-               "against an arterial blood gas.")]
+    return [caution("caution", "GRADIENT_UNRELIABLE",
+                    "The PaCO2–EtCO2 gradient in {species} is large or variable (default {gradient_mmhg}): treat "
+                    "EtCO2 as a trend and calibrate it against an arterial blood gas.", {"species": x.species.label},
+                    gradient_mmhg=x.plan.resolved.gradient_mmhg)]
 
 
 def mechanics_rough(x: Context) -> list[Caution]:
     if x.plan.resolved.mechanics_reliable:
         return []
-    return [_c("info", "MECHANICS_ROUGH",
-               f"Compliance and resistance for {x.species.label} are rough estimates: predicted pressures and time "
-               "constants are a guide only. Watch chest or body-wall movement and the pressure gauge.")]
+    return [caution("info", "MECHANICS_ROUGH",
+                    "Compliance and resistance for {species} are rough estimates: predicted pressures and time "
+                    "constants are a guide only. Watch chest or body-wall movement and the pressure gauge.",
+                    {"species": x.species.label})]
 
 
 def species_notes(x: Context) -> list[Caution]:
-    return [_c(n.severity, n.code, f"{n.text} ({n.source})") for n in x.species.notes]
+    return [caution(n.severity, n.code, "{note} ({source})", {"note": n.text, "source": n.source})
+            for n in x.species.notes]
 
 
 def no_tube_entered(x: Context) -> list[Caution]:
-    c = x.plan.request.circuit
-    if c.tube_id_mm is not None:
+    if x.plan.request.circuit.tube_id_mm is not None:
         return []
-    return [_c("info", "TUBE_NOT_ENTERED",
-               "No tube size entered: the tube beyond the incisors is not counted as dead space. "
-               "Enter its internal diameter and length.")]
+    return [caution("info", "TUBE_NOT_ENTERED",
+                    "No tube size entered: the tube beyond the incisors is not counted as dead space. Enter its "
+                    "internal diameter and length.")]
 
 
 def custom_species(x: Context) -> list[Caution]:
     name = x.plan.request.patient.custom_species.strip()
     if not name:
         return []
-    return [_c("caution", "CUSTOM_SPECIES",
-               f"{name} is not in the species library: every value not entered comes from {x.species.label} "
-               "(usual tidal volume and rate, pressure limit, compliance, dead space, metabolism). Enter what you "
-               "know about this species and titrate closely to capnography and chest movement.")]
+    return [caution("caution", "CUSTOM_SPECIES",
+                    "{name} is not in the species library: every value not entered comes from {species} (usual "
+                    "tidal volume and rate, pressure limit, compliance, dead space, metabolism). Enter what you know "
+                    "about this species and titrate closely to capnography and chest movement.",
+                    {"name": name, "species": x.species.label})]
 
 
 RULES: tuple[Callable[[Context], list[Caution]], ...] = (
     tidal_volume_below_dead_space, target_unreachable, settings_fixed, plateau_above_limit, apparatus_share,
     short_expiration, driving_pressure, compressible_volume, outside_species_range, limit_moved_the_plan,
-    oxygenation,
-    body_temperature, metabolic_plausibility, peep_high, gradient_unreliable, small_patient_capnography,
-    short_inspiration_pressure_mode, mechanics_rough, no_tube_entered, custom_species, species_notes,
+    oxygenation, etco2_floor, body_temperature, metabolic_plausibility, peep_high, gradient_unreliable,
+    small_patient_capnography, short_inspiration_pressure_mode, mechanics_rough, no_tube_entered, custom_species,
+    species_notes,
 )
 
 
-def evaluate(plan: Plan, species: Species, library: Library, binding: tuple[str, ...] = (),
-             preferred_vt_ml: float = math.nan, preferred_rate_per_min: float = math.nan) -> tuple[Caution, ...]:
-    """Run every rule on ``plan``; return cautions sorted danger → caution → info."""
-    ctx = Context(plan, species, {k: s.value for k, s in library.cautions.items()}, binding, preferred_vt_ml,
-                  preferred_rate_per_min)
-    found = [c for rule in RULES for c in rule(ctx)]
+def sort_cautions(found: list[Caution]) -> tuple[Caution, ...]:
+    """Danger first, then caution, then info (stable within a severity)."""
     return tuple(sorted(found, key=lambda c: SEVERITY_ORDER[c.severity]))
 
 
-def attach(plan: Plan, species: Species, library: Library, choice) -> Plan:
-    """Return ``plan`` with its cautions filled in (``choice`` is the planner's solver result)."""
-    return replace(plan, cautions=evaluate(plan, species, library, choice.binding, choice.preferred_vt_ml,
-                                           choice.preferred_rate_per_min))
+def evaluate(plan: Plan, species: Species, library: Library) -> tuple[Caution, ...]:
+    """Run every rule on ``plan``; return cautions sorted danger → caution → info."""
+    ctx = Context(plan, species, {k: s.value for k, s in library.cautions.items()})
+    return sort_cautions([c for rule in RULES for c in rule(ctx)])
+
+
+def attach(plan: Plan, library: Library) -> Plan:
+    """Return ``plan`` with its cautions filled in."""
+    species = plan.basis.inputs.species if plan.basis is not None else library.species[plan.resolved.species]
+    return replace(plan, cautions=evaluate(plan, species, library))

@@ -7,6 +7,14 @@ species default", which the plan then lists in its assumptions with the source.
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass, field
+from typing import TYPE_CHECKING
+
+from ventset.present.phrases import render
+
+if TYPE_CHECKING:
+    from ventset.evaluate import Evaluation, Subject
+    from ventset.present.quantities import Units
+    from ventset.stages.basis import Basis
 
 STANDING_NOTICE = (
     "A calculated starting point from population averages, not a prescription. "
@@ -99,22 +107,38 @@ class Request:
 
 @dataclass(frozen=True)
 class Caution:
-    """A finding about a plan: severity info/caution/danger, a stable code, a plain sentence."""
+    """A finding about a plan: severity info/caution/danger, a stable code, and its sentence.
+
+    ``template`` names its numbers by unit suffix (``{pao2_mmhg}``); ``values`` holds them in the core's
+    units and ``texts`` the words, so the sentence is shown in any unit (``text(units)``).
+    """
 
     severity: str
     code: str
-    message: str
+    template: str
     values: tuple[tuple[str, float], ...] = ()
+    texts: tuple[tuple[str, str], ...] = ()
+
+    @property
+    def message(self) -> str:
+        """The sentence with gas pressures in mmHg (the JSON and log form)."""
+        return render(self.template, self.values, self.texts)
+
+    def text(self, units: Units | None = None) -> str:
+        """The sentence in the reader's units."""
+        return render(self.template, self.values, self.texts) if units is None else render(
+            self.template, self.values, self.texts, units)
 
 
 @dataclass(frozen=True)
 class Assumption:
-    """A default used in a plan, with its value, unit and source."""
+    """A default used in a plan, with its value, unit and source; ``key`` says what it is."""
 
     name: str
     value: float | str
     unit: str
     source: str
+    key: str = ""
 
 
 @dataclass(frozen=True)
@@ -193,6 +217,8 @@ class Limits:
     rate_max_per_min: float
     vt_pressure_max_ml: float
     binding: tuple[str, ...]
+    preferred_vt_ml: float = float("nan")
+    preferred_rate_per_min: float = float("nan")
 
 
 @dataclass(frozen=True)
@@ -228,6 +254,15 @@ class Plan:
     cautions: tuple[Caution, ...]
     assumptions: tuple[Assumption, ...]
     standing_notice: str = STANDING_NOTICE
+    # What later stages and every view need without recomputing: the stage results before the choice of
+    # settings (``basis``), the resolved patient the settings were evaluated on, and that evaluation.
+    basis: Basis | None = None
+    subject: Subject | None = None
+    evaluation: Evaluation | None = None
+
+    def assumption(self, key: str) -> Assumption | None:
+        """The assumption recorded under ``key`` (e.g. 'anatomical_dead_space'), or None."""
+        return next((a for a in self.assumptions if a.key == key), None)
 
     def worst_severity(self) -> str:
         order = {"info": 0, "caution": 1, "danger": 2}

@@ -29,3 +29,23 @@ def enghoff_vd_vt(paco2: float, mixed_expired_pco2: float) -> float:
 def alveolar_dead_space_fraction_from_gradient(paco2: float, etco2: float) -> float:
     """Alveolar dead-space fraction (PaCO2 − PETCO2)/PaCO2 (Mosing et al. 2018)."""
     return (paco2 - etco2) / paco2
+
+
+def exchange_per_breath_ml(vt_ml, vd_fixed_ml: float, alveolar_fraction: float):
+    """Volume of one breath that exchanges gas, VT·(1 − f_alv) − VD_fixed, mL (float or numpy array).
+
+    VD_fixed is the airway dead space that does not grow with the breath (anatomical, apparatus, tube);
+    f_alv the alveolar dead-space fraction of VT (unperfused alveoli).
+    """
+    return vt_ml * (1.0 - alveolar_fraction) - vd_fixed_ml
+
+
+def vt_for_alveolar_ml(va_ml_min, rate_per_min, vd_fixed_ml: float, alveolar_fraction: float):
+    """Tidal volume (mL) that gives alveolar ventilation VA at rate f: (VA/f + VD_fixed)/(1 − f_alv)."""
+    return (va_ml_min / rate_per_min + vd_fixed_ml) / (1.0 - alveolar_fraction)
+
+
+def rate_for_alveolar_per_min(va_ml_min: float, vt_ml: float, vd_fixed_ml: float, alveolar_fraction: float) -> float:
+    """Rate (/min) that gives alveolar ventilation VA at tidal volume VT; inf when the breath is all dead space."""
+    eff = exchange_per_breath_ml(vt_ml, vd_fixed_ml, alveolar_fraction)
+    return va_ml_min / eff if eff > 0 else math.inf

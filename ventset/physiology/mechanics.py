@@ -35,7 +35,7 @@ def peak_cmh2o_constant_flow(vt_ml: float, ti_s: float, compliance_ml_cmh2o: flo
 
 def pressure_control_delta_cmh2o(vt_ml: float, ti_s: float, compliance_ml_cmh2o: float, tau_s: float) -> float:
     """Inspiratory pressure above PEEP that delivers VT in Ti with a square pressure: VT/(C·(1 − e^(−Ti/τ)))."""
-    return vt_ml / (compliance_ml_cmh2o * (1.0 - math.exp(-ti_s / tau_s)))
+    return vt_ml / (compliance_ml_cmh2o * (1.0 - math.e ** (-ti_s / tau_s)))  # float or numpy array
 
 
 def otis_optimal_rate_per_min(va_l_min: float, vd_l: float, rc_s: float) -> float:

@@ -1,0 +1,105 @@
+"""Stage 3: dead space (anatomical after intubation, apparatus, tube, alveolar) and respiratory mechanics."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from ventset.errors import InputError
+from ventset.model import ApparatusPart, Assumption, Circuit, Patient, Targets
+from ventset.physiology import deadspace, mechanics
+from ventset.stages.inputs import Inputs
+from ventset.stages.trail import note
+from ventset.units import fmt
+
+
+@dataclass(frozen=True)
+class AirwayDeadSpace:
+    """The dead space that does not grow with the breath (mL) and the alveolar fraction of VT."""
+
+    anatomical_ml: float
+    apparatus_ml: float
+    tube_ml: float
+    alveolar_fraction: float
+    parts: tuple[ApparatusPart, ...]
+    assumptions: tuple[Assumption, ...]
+
+    @property
+    def fixed_ml(self) -> float:
+        """Anatomical (intubated) + apparatus + tube beyond the incisors."""
+        return self.anatomical_ml + self.apparatus_ml + self.tube_ml
+
+
+def dead_space_stage(p: Patient, c: Circuit, inp: Inputs) -> AirwayDeadSpace:
+    """Stahl-type anatomical dead space × the share kept after intubation, tube π(ID/2)²L, parts, f_alv."""
+    sp, lean = inp.species, inp.lean_mass_kg
+    full = deadspace.anatomical_dead_space_ml(lean, sp.anatomical_coefficient_ml, sp.anatomical_exponent)
+    notes = [
+        note("anatomical_dead_space", "Anatomical dead space (unintubated)", full, "mL",
+             f"{sp.anatomical_coefficient_ml}·M^{sp.anatomical_exponent}: {sp.anatomical_source}"),
+        note("intubated_share", "Share of anatomical dead space kept after intubation", sp.intubated_fraction, "",
+             sp.anatomical_source),
+    ]
+    if (c.tube_id_mm is None) != (c.tube_length_cm is None):
+        missing = "tube-length" if c.tube_length_cm is None else "tube-id"
+        raise InputError(missing, "", "enter both tube internal diameter and length beyond the incisors, or neither")
+    tube = 0.0
+    if c.tube_id_mm is not None and c.tube_length_cm is not None:
+        tube = deadspace.tube_volume_ml(c.tube_id_mm, c.tube_length_cm)
+    for part in c.parts:
+        if not math.isfinite(part.volume_ml) or part.volume_ml < 0:
+            raise InputError("apparatus", part.volume_ml, "volume must be 0 mL or more",
+                             label=f"Apparatus '{part.name}'")
+    f_alv = (p.alveolar_dead_space_fraction if p.alveolar_dead_space_fraction is not None
+             else sp.alveolar_dead_space_fraction.value)
+    if p.alveolar_dead_space_fraction is None:
+        notes.append(note("alveolar_fraction", "Alveolar dead-space fraction", f_alv, "of VT",
+                          sp.alveolar_dead_space_fraction.source))
+    return AirwayDeadSpace(full * sp.intubated_fraction, sum(x.volume_ml for x in c.parts), tube, f_alv, c.parts,
+                           tuple(notes))
+
+
+@dataclass(frozen=True)
+class Mechanics:
+    """Single-compartment mechanics and the pressures the plan must respect (cmH2O, mL/cmH2O, cmH2O/(L/s))."""
+
+    compliance_ml_cmh2o: float
+    resistance_cmh2o_l_s: float
+    peep_cmh2o: float
+    pressure_limit_cmh2o: float
+    assumptions: tuple[Assumption, ...]
+
+    @property
+    def time_constant_s(self) -> float:
+        return mechanics.time_constant_s(self.resistance_cmh2o_l_s, self.compliance_ml_cmh2o)
+
+    @property
+    def vt_pressure_max_ml(self) -> float:
+        """Largest tidal volume whose plateau stays at the limit: (limit − PEEP)·C."""
+        return (self.pressure_limit_cmh2o - self.peep_cmh2o) * self.compliance_ml_cmh2o
+
+
+def mechanics_stage(p: Patient, t: Targets, inp: Inputs) -> Mechanics:
+    """Compliance (per kg lean mass), resistance (coefficient·M^exponent), PEEP and the pressure limit."""
+    sp, lean = inp.species, inp.lean_mass_kg
+    notes: list[Assumption] = []
+    compliance = p.compliance_ml_cmh2o if p.compliance_ml_cmh2o is not None else sp.compliance_ml_cmh2o_kg.value * lean
+    if p.compliance_ml_cmh2o is None:
+        notes.append(note("compliance_per_kg", "Respiratory-system compliance per kg", sp.compliance_ml_cmh2o_kg.value,
+                          "mL/cmH2O/kg", sp.compliance_ml_cmh2o_kg.source))
+    resistance = (p.resistance_cmh2o_l_s if p.resistance_cmh2o_l_s is not None
+                  else sp.resistance_coefficient * lean**sp.resistance_exponent)
+    if p.resistance_cmh2o_l_s is None:
+        notes.append(note("resistance", "Airway resistance", resistance, "cmH2O/(L/s)",
+                          f"{sp.resistance_coefficient}·M^{sp.resistance_exponent}: {sp.resistance_source}"))
+    peep = t.peep_cmh2o if t.peep_cmh2o is not None else sp.peep_cmh2o.value
+    if t.peep_cmh2o is None:
+        notes.append(note("peep", "PEEP", peep, "cmH2O", sp.peep_cmh2o.source))
+    limit = t.pressure_limit_cmh2o if t.pressure_limit_cmh2o is not None else sp.pip_limit_cmh2o.value
+    if t.pressure_limit_cmh2o is None:
+        notes.append(note("pressure_limit", "Pressure limit", limit, "cmH2O", sp.pip_limit_cmh2o.source))
+    if limit <= peep:
+        raise InputError("pressure-limit", f"{fmt(limit)} cmH2O", f"must be above PEEP ({fmt(peep)} cmH2O)")
+    if t.ti_s is not None and t.ie_expiratory_part is not None:
+        raise InputError("ti", t.ti_s, "give an inspiratory time or an I:E, not both")
+    return Mechanics(compliance, resistance, peep, limit, tuple(notes))

@@ -1,0 +1,77 @@
+"""Stage 2: metabolism (Kleiber-type allometry, Q10, anaesthesia factor, Weir) and the CO2 target."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from ventset.errors import InputError
+from ventset.model import Assumption, Metabolism, Patient, Targets
+from ventset.physiology import gas, metabolism
+from ventset.stages.inputs import Inputs
+from ventset.stages.trail import note
+from ventset.units import check_range, fmt
+
+
+def metabolism_stage(p: Patient, inp: Inputs) -> tuple[Metabolism, tuple[Assumption, ...]]:
+    """Metabolic rate (W), VO2 and VCO2 (mL/min STPD): entered, or K·M^b × Q10 × anaesthesia factor."""
+    sp, g = inp.species, inp.species.group
+    notes: list[Assumption] = []
+    ectotherm = g.key == "reptile"
+    t_ref = g.reference_temperature_c.value if ectotherm else sp.body_temperature_c.start
+    rq = p.rq if p.rq is not None else sp.rq.value
+    if p.rq is None:
+        notes.append(note("rq", "Respiratory quotient", rq, "", sp.rq.source))
+    basal_kcal = metabolism.allometric_rate_kcal_day(inp.lean_mass_kg, g.k_kcal_day.value, g.exponent.value)
+    allometric_w = (metabolism.kcal_day_to_w(basal_kcal) * metabolism.q10_factor(inp.body_temp_c, t_ref, g.q10.value)
+                    * sp.anaesthesia_factor.value)
+    if p.metabolic_rate_w is None:
+        power_w = allometric_w
+        notes += [
+            note("metabolic_constant", f"Metabolic constant K ({g.label})", g.k_kcal_day.value, "kcal/day/kg^b",
+                 g.k_kcal_day.source),
+            note("metabolic_exponent", "Metabolic exponent b", g.exponent.value, "", g.exponent.source),
+            note("reference_temperature", "Temperature the rate refers to", t_ref, "°C",
+                 g.reference_temperature_c.source if ectotherm else sp.body_temperature_c.source),
+            note("q10", "Q10", g.q10.value, "", g.q10.source),
+            note("anaesthesia_factor", "Anaesthesia factor on metabolic rate", sp.anaesthesia_factor.value, "",
+                 sp.anaesthesia_factor.source),
+        ]
+    else:
+        power_w = p.metabolic_rate_w
+    if power_w <= 0:
+        raise InputError("metabolic-rate", power_w, "must be above 0 W")
+    vo2 = metabolism.vo2_ml_min(power_w, rq)
+    return Metabolism(power_w, allometric_w, vo2, rq * vo2, rq, p.metabolic_rate_w is not None), tuple(notes)
+
+
+@dataclass(frozen=True)
+class Co2Target:
+    """The PaCO2 to reach and the PaCO2 − EtCO2 gradient (mmHg)."""
+
+    paco2_mmhg: float
+    gradient_mmhg: float
+    assumptions: tuple[Assumption, ...]
+
+
+def co2_target_stage(t: Targets, inp: Inputs) -> Co2Target:
+    """Target PaCO2 (entered, from a target EtCO2 + gradient, or the species start) and the gradient."""
+    sp = inp.species
+    notes: list[Assumption] = []
+    gradient = t.gradient_mmhg if t.gradient_mmhg is not None else sp.gradient_mmhg.value
+    if t.gradient_mmhg is None:
+        notes.append(note("gradient", "PaCO2 − EtCO2 gradient", gradient, "mmHg", sp.gradient_mmhg.source))
+    if t.paco2_mmhg is not None and t.etco2_mmhg is not None:
+        raise InputError("target-etco2", t.etco2_mmhg, "give a target PaCO2 or a target EtCO2, not both")
+    if t.paco2_mmhg is not None:
+        target = t.paco2_mmhg
+    elif t.etco2_mmhg is not None:
+        target = check_range(t.etco2_mmhg + gradient, 10.0, 120.0, "target-etco2", "mmHg",
+                             label="Target EtCO2 + gradient")
+    else:
+        target = sp.paco2_target_mmhg.start
+        notes.append(note("target_paco2", "Target PaCO2", target, "mmHg", sp.paco2_target_mmhg.source))
+    notes.append(note("alveolar_constant", "Alveolar ventilation constant K(T)",
+                      gas.alveolar_constant_mmhg(inp.body_temp_c) / 1000, "",
+                      f"VA (L/min) = VCO2 (mL/min) × K / PaCO2 (mmHg) at {fmt(inp.body_temp_c)} °C; 0.863 at 37 °C "
+                      "(alveolar ventilation equation, derived)"))
+    return Co2Target(target, gradient, tuple(notes))
