@@ -113,7 +113,7 @@ def settings_map_ms(n: int = 60) -> float:
     from ventset.demo import demo_request
     from ventset.library import load_library
     from ventset.planner import plan
-    from ventset.views import settings_map
+    from ventset.plotdata import settings_map
 
     lib = load_library()
     p = plan(demo_request(lib), lib)

@@ -1,5 +1,6 @@
 """No import cycle anywhere in ventset (issue 8 item 6): every import, at the top of a module or inside a
-function, is an edge; a cycle fails with the modules that form it."""
+function, is an edge; a cycle fails with the modules that form it. Imports under ``if TYPE_CHECKING:`` are
+read only by type checkers, never run, and are not edges."""
 
 from __future__ import annotations
 
@@ -23,7 +24,12 @@ def import_graph() -> dict[str, set[str]]:
     graph: dict[str, set[str]] = {name: set() for name in files}
     for name, path in files.items():
         package = name if path.name == "__init__.py" else name.rpartition(".")[0]
-        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        typing_only = {id(n) for block in ast.walk(tree) if isinstance(block, ast.If)
+                       and getattr(block.test, "id", "") == "TYPE_CHECKING" for n in ast.walk(block)}
+        for node in ast.walk(tree):
+            if id(node) in typing_only:
+                continue
             targets: list[str] = []
             if isinstance(node, ast.Import):
                 targets = [a.name for a in node.names]
@@ -89,3 +95,21 @@ def test_the_graph_sees_imports_inside_functions():
     graph = import_graph()
     assert "ventset.gui.app" in graph["ventset.cli"]  # imported inside _cmd_gui
     assert "ventset.cli" not in graph["ventset.gui.window"]  # the demo patient comes from the core
+
+
+def test_a_runtime_cycle_is_found_and_a_typing_only_one_is_not(tmp_path):
+    # Two modules that import each other at run time form a cycle; the same pair with one import under
+    # TYPE_CHECKING does not.
+    pkg = tmp_path / "ventset"
+    pkg.mkdir()
+    (pkg / "__init__.py").write_text("")
+    (pkg / "a.py").write_text("from ventset import b\n")
+    (pkg / "b.py").write_text("from ventset import a\n")
+    globals()["ROOT"], globals()["PACKAGE"] = tmp_path, pkg
+    try:
+        assert cycles(import_graph()) == [["ventset.a", "ventset.b"]]
+        (pkg / "b.py").write_text("from typing import TYPE_CHECKING\nif TYPE_CHECKING:\n    from ventset import a\n")
+        assert cycles(import_graph()) == []
+    finally:
+        globals()["ROOT"], globals()["PACKAGE"] = Path(__file__).resolve().parent.parent, \
+            Path(__file__).resolve().parent.parent / "ventset"

@@ -316,7 +316,8 @@ def etco2_floor(x: Context) -> list[Caution]:
     return [caution("danger", "GRADIENT_ABOVE_PACO2",
                     "The PaCO2 − EtCO2 gradient {gradient_mmhg} is larger than the expected PaCO2 {paco2_mmhg}, so "
                     "the expected EtCO2 would be below zero (shown as 0): the gradient or the settings are wrong for "
-                    "this patient. Check the gradient against a blood gas.", gradient_mmhg=x.plan.resolved.gradient_mmhg,
+                    "this patient. Check the gradient against a blood gas.",
+                    gradient_mmhg=x.plan.resolved.gradient_mmhg,
                     paco2_mmhg=x.plan.ventilation.expected_paco2_mmhg)]
 
 

@@ -288,6 +288,7 @@ def _taus(name: str, help: str) -> SourcedNumber:
 
 _PAO2: dict[str, Any] = {"unit": "mmHg", "lo": 0, "hi": FIELDS["barometric-pressure"].hi, "lo_open": True}
 _PAO2_HELP = " At most the highest barometric pressure the barometric-pressure input accepts."
+_PACO2: dict[str, Any] = {"unit": "mmHg", **limits("target-paco2")}
 
 CAUTIONS = FileSchema("cautions.toml", "thresholds of the caution rules", doc=(
     "The numbers the caution rules in `ventset/cautions.py` compare against. Every threshold a rule reads is "
@@ -310,9 +311,14 @@ CAUTIONS = FileSchema("cautions.toml", "thresholds of the caution rules", doc=(
                       help="below this mass sidestream capnography under-reads"),
         SourcedNumber("peep_high_cmh2o", unit="cmH2O", **limits("peep"),
                       help="PEEP above this: caution (cardiac output)." + _same_as("peep")),
+        SourcedNumber("paco2_danger_high_mmhg", **_PACO2,
+                      help="an expected or measured PaCO2 above this is a danger (planner and titration)"),
+        SourcedNumber("paco2_danger_low_mmhg", **_PACO2,
+                      help="an expected PaCO2 below this is a danger (severe hypocapnia)"),
     ), checks=(_below("apparatus_share_caution", "apparatus_share_danger"),
                _below("expiration_tau_danger", "expiration_tau_caution"),
-               _below("pao2_danger_mmhg", "pao2_caution_mmhg"))),
+               _below("pao2_danger_mmhg", "pao2_caution_mmhg"),
+               _below("paco2_danger_low_mmhg", "paco2_danger_high_mmhg"))),
 ))
 
 PLANNING = FileSchema("planning.toml", "planner defaults that are not species data", doc=(
@@ -336,7 +342,6 @@ PLANNING = FileSchema("planning.toml", "planner defaults that are not species da
 # ---------------------------------------------------------------------------------------------------------
 
 _MINUTES: dict[str, Any] = {"unit": "min", "lo": 0, "hi": 240, "lo_open": True}
-_PACO2: dict[str, Any] = {"unit": "mmHg", **limits("target-paco2")}
 
 TITRATION = FileSchema("titration.toml", "numbers for adjusting ventilation from measurements", doc=(
     "Step size and re-measure times for `ventset/titrate.py`, and the measured-PaCO2 bounds that are said out "
@@ -350,11 +355,9 @@ TITRATION = FileSchema("titration.toml", "numbers for adjusting ventilation from
         SourcedNumber("gradient_widening_mmhg", unit="mmHg", lo=0, hi=FIELDS["gradient"].hi, lo_open=True,
                       help="a PaCO2 − EtCO2 gradient this much wider than usual points to alveolar dead space"),
         SourcedNumber("paco2_high_caution_mmhg", **_PACO2, help="measured PaCO2 above this: caution"),
-        SourcedNumber("paco2_high_danger_mmhg", **_PACO2, help="measured PaCO2 above this: danger"),
         SourcedNumber("paco2_low_caution_mmhg", **_PACO2, help="measured PaCO2 below this: caution"),
     ), checks=(_below("remeasure_etco2_min", "remeasure_etco2_max_min", strict=False),
-               _below("paco2_low_caution_mmhg", "paco2_high_caution_mmhg"),
-               _below("paco2_high_caution_mmhg", "paco2_high_danger_mmhg"))),
+               _below("paco2_low_caution_mmhg", "paco2_high_caution_mmhg"))),
 ))
 
 

@@ -120,6 +120,18 @@ class Subject:
         """Tidal volume (mL) giving alveolar ventilation ``va`` at a rate: (VA/f + VD_fixed)/(1 − f_alv)."""
         return deadspace.vt_for_alveolar_ml(va_ml_min, rate_per_min, self.vd_fixed_ml, self.alveolar_fraction)
 
+    def rate_for_vt_array(self, va_ml_min: float, vt_ml: Num) -> Num:
+        """``rate_for_vt`` for arrays (unchecked: the caller masks breaths that are all dead space)."""
+        return va_ml_min / self.exchange_ml(vt_ml)
+
+    def vt_at_pressure(self, pressure_cmh2o: float, ti_s: Num) -> Num:
+        """Largest tidal volume (mL) whose peak (volume mode) or square pressure (pressure mode) is ``pressure``."""
+        if self.mode == "pressure":
+            return mechanics.vt_at_square_pressure(pressure_cmh2o - self.peep_cmh2o, ti_s, self.compliance_ml_cmh2o,
+                                                   self.time_constant_s)
+        return mechanics.vt_at_peak_constant_flow(pressure_cmh2o, ti_s - self.timing.pause_s, self.compliance_ml_cmh2o,
+                                                  self.resistance_cmh2o_l_s, self.peep_cmh2o)
+
     def rate_for_vt(self, va_ml_min: float, vt_ml: float) -> float:
         """Rate (/min) giving alveolar ventilation ``va`` at a tidal volume; inf when the breath is all dead space."""
         return deadspace.rate_for_alveolar_per_min(va_ml_min, vt_ml, self.vd_fixed_ml, self.alveolar_fraction)

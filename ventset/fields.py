@@ -137,15 +137,19 @@ def get_path(request: object, path: str) -> object:
     return obj
 
 
+def check_value(spec: FieldSpec, value: object) -> None:
+    """Check one stored number (None = not given) against its field's hard limits; InputError naming it."""
+    if value is None:
+        return
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        raise InputError(spec, value, "must be a number")
+    check_range(float(value), spec.lo, spec.hi, spec, spec.unit, lo_open=spec.lo_open)
+
+
 def validate_request(request: object) -> None:
     """Check a Request against every field's hard limits and the text policy; raises InputError naming the field."""
     for spec in FIELDS.values():
-        value = get_path(request, spec.path)
-        if value is None:
-            continue
-        if isinstance(value, bool) or not isinstance(value, int | float):
-            raise InputError(spec, value, "must be a number")
-        check_range(float(value), spec.lo, spec.hi, spec, spec.unit, lo_open=spec.lo_open)
+        check_value(spec, get_path(request, spec.path))
     for key, path in TEXT_INPUTS.items():
         value = get_path(request, path)
         if value is not None:

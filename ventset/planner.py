@@ -21,7 +21,8 @@ from ventset.stages.circuit import reservoir_bag_l
 from ventset.stages.finish import choose_stage, finish
 from ventset.stages.timing import default_ti_s
 
-__all__ = ["Choice", "breath_alveolar_ml", "choose_settings", "default_ti_s", "paco2_grid", "plan", "plan_at", "reservoir_bag_l"]
+__all__ = ["Choice", "breath_alveolar_ml", "choose_settings", "default_ti_s", "paco2_grid", "plan", "plan_at",
+           "reservoir_bag_l"]
 
 
 def plan(request: Request, library: Library | None = None) -> Plan:

@@ -1,4 +1,4 @@
-"""Plan → JSON-ready dict and plain-text summary (CLI output and the clinical record)."""
+"""Plan → JSON-ready dict (docs/plan-json.md) and the plain-text report, from the presentation layer's rows."""
 
 from __future__ import annotations
 
@@ -8,11 +8,18 @@ from dataclasses import asdict
 
 from ventset import __version__
 from ventset.model import STRATEGY_LABELS, Caution, Plan, Resolved
-from ventset.units import fmt, gas_pressure, gas_units_in_text
+from ventset.present.quantities import MMHG, Units
+from ventset.present.rows import assumption_value, derived_sections, one_line, patient_line, setting_rows
 
 
-def _num(x: float) -> float | None:
-    return round(x, 4) if isinstance(x, float) and math.isfinite(x) else (None if isinstance(x, float) else x)
+def json_number(x: object) -> object:
+    """A float for JSON: rounded to 4 decimals, None when not finite; anything else as it is."""
+    if isinstance(x, float):
+        return round(x, 4) if math.isfinite(x) else None
+    return x
+
+
+_num = json_number
 
 
 def patient_to_dict(r: Resolved, name: str) -> dict:
@@ -21,22 +28,21 @@ def patient_to_dict(r: Resolved, name: str) -> dict:
             "lean_mass_kg": _num(r.lean_mass_kg), "body_temp_c": _num(r.body_temp_c), "name": name}
 
 
-def caution_lines(cautions: Iterable[Caution], gas_unit: str = "mmHg") -> list[str]:
+def cautions_to_json(cautions: Iterable[Caution]) -> list[dict]:
+    """Cautions for JSON: severity, code, the sentence (gas pressures in mmHg) and its numbers by name."""
+    return [{"severity": c.severity, "code": c.code, "message": c.message,
+             "values": {k: _num(v) for k, v in c.values}} for c in cautions]
+
+
+def caution_lines(cautions: Iterable[Caution], units: Units | str = MMHG) -> list[str]:
     """One indented line per caution ('  [SEVERITY] code: message'), or '  none'."""
-    return [f"  [{c.severity.upper()}] {c.code}: {gas_units_in_text(c.message, gas_unit)}" for c in cautions] or [
-        "  none"]
+    u = Units(gas=units) if isinstance(units, str) else units
+    return [f"  [{c.severity.upper()}] {c.code}: {c.text(u)}" for c in cautions] or ["  none"]
 
 
-def plan_to_dict(plan: Plan) -> dict:
-    """The documented JSON shape of a plan (docs/plan-json.md); units are in the key names."""
+def _blocks(plan: Plan) -> dict:
     m, d, v, p, o = plan.metabolism, plan.dead_space, plan.ventilation, plan.pressures, plan.oxygen
-    r = plan.resolved
     return {
-        "ventset_version": __version__,
-        "standing_notice": plan.standing_notice,
-        "patient": patient_to_dict(r, plan.request.patient.name),
-        "mode": r.mode,
-        "strategy": r.strategy,
         "metabolism": {"metabolic_rate_w": _num(m.metabolic_rate_w), "allometric_rate_w": _num(m.allometric_rate_w),
                        "vo2_ml_min": _num(m.vo2_ml_min), "vco2_ml_min": _num(m.vco2_ml_min), "rq": _num(m.rq),
                        "entered": m.entered},
@@ -47,11 +53,12 @@ def plan_to_dict(plan: Plan) -> dict:
         "ventilation": {"alveolar_ml_min": _num(v.alveolar_ml_min), "minute_ml_min": _num(v.minute_ml_min),
                         "tidal_volume_ml": _num(v.tidal_volume_ml), "set_tidal_volume_ml": _num(v.set_tidal_volume_ml),
                         "rate_per_min": _num(v.rate_per_min), "ti_s": _num(v.ti_s), "te_s": _num(v.te_s),
-                        "ie_expiratory_part": _num(r.ie_expiratory_part),
+                        "ie_expiratory_part": _num(plan.resolved.ie_expiratory_part),
                         "inspiratory_flow_l_min": _num(v.inspiratory_flow_l_min),
                         "target_paco2_mmhg": _num(v.target_paco2_mmhg),
                         "expected_paco2_mmhg": _num(v.expected_paco2_mmhg),
-                        "expected_etco2_mmhg": _num(v.expected_etco2_mmhg), "target_reached": v.target_reached},
+                        "expected_etco2_mmhg": _num(v.expected_etco2_mmhg), "target_reached": v.target_reached,
+                        "delivered_alveolar_ml_min": _num(v.delivered_alveolar_ml_min)},
         "pressures": {"peep_cmh2o": _num(p.peep_cmh2o), "plateau_cmh2o": _num(p.plateau_cmh2o),
                       "peak_cmh2o": _num(p.peak_cmh2o), "driving_cmh2o": _num(p.driving_cmh2o),
                       "inspiratory_pressure_cmh2o": _num(p.inspiratory_pressure_cmh2o),
@@ -65,66 +72,44 @@ def plan_to_dict(plan: Plan) -> dict:
                    "min_o2_flow_ml_min": _num(o.min_o2_flow_ml_min), "fresh_gas_ml_min": _num(o.fresh_gas_ml_min),
                    "fresh_gas_induction_ml_min": _num(o.fresh_gas_induction_ml_min), "circuit": o.circuit_type,
                    "reservoir_bag_l": _num(o.reservoir_bag_l)},
-        "limits": {"vt_min_ml": _num(plan.limits.vt_min_ml), "vt_max_ml": _num(plan.limits.vt_max_ml),
-                   "rate_min_per_min": _num(plan.limits.rate_min_per_min),
-                   "rate_max_per_min": _num(plan.limits.rate_max_per_min),
-                   "vt_pressure_max_ml": _num(plan.limits.vt_pressure_max_ml), "binding": list(plan.limits.binding)},
-        "cautions": [{"severity": c.severity, "code": c.code, "message": c.message} for c in plan.cautions],
-        "assumptions": [{"name": a.name, "value": a.value, "unit": a.unit, "source": a.source}
+    }
+
+
+def plan_to_dict(plan: Plan) -> dict:
+    """The documented JSON shape of a plan (docs/plan-json.md); units are in the key names."""
+    r, lim = plan.resolved, plan.limits
+    return {
+        "ventset_version": __version__,
+        "standing_notice": plan.standing_notice,
+        "patient": patient_to_dict(r, plan.request.patient.name),
+        "mode": r.mode,
+        "strategy": r.strategy,
+        **_blocks(plan),
+        "limits": {"vt_min_ml": _num(lim.vt_min_ml), "vt_max_ml": _num(lim.vt_max_ml),
+                   "rate_min_per_min": _num(lim.rate_min_per_min), "rate_max_per_min": _num(lim.rate_max_per_min),
+                   "vt_pressure_max_ml": _num(lim.vt_pressure_max_ml), "binding": list(lim.binding)},
+        "cautions": cautions_to_json(plan.cautions),
+        "assumptions": [{"key": a.key, "name": a.name, "value": a.value, "unit": a.unit, "source": a.source}
                         for a in plan.assumptions],
     }
 
 
-def plan_to_text(plan: Plan, gas_unit: str = "mmHg") -> str:
-    """A readable summary: settings first, then derived values, cautions, assumptions, the notice."""
-    m, d, v, p, o, r = (plan.metabolism, plan.dead_space, plan.ventilation, plan.pressures, plan.oxygen,
-                        plan.resolved)
-    name = f"{plan.request.patient.name} — " if plan.request.patient.name else ""
-    lines = [
-        f"ventset {__version__} — starting ventilation plan",
-        f"{name}{r.species_label}, {fmt(r.mass_kg)} kg"
-        + (f" (lean {fmt(r.lean_mass_kg)} kg)" if r.lean_mass_kg != r.mass_kg else "")
-        + f", {fmt(r.body_temp_c)} °C; {r.mode} mode; {STRATEGY_LABELS[r.strategy].lower()}",
-        "",
-        "SETTINGS",
-        f"  Set tidal volume   {fmt(v.set_tidal_volume_ml)} mL   (patient {fmt(v.tidal_volume_ml)} mL = "
-        f"{fmt(v.tidal_volume_ml / r.lean_mass_kg)} mL/kg; circuit {fmt(p.compressed_ml)} mL)",
-        f"  Rate               {fmt(v.rate_per_min)} /min",
-        f"  Ti / Te            {fmt(v.ti_s)} s / {fmt(v.te_s)} s   (I:E 1:{fmt(r.ie_expiratory_part)})",
-        f"  Inspiratory flow   {fmt(v.inspiratory_flow_l_min)} L/min",
-        f"  PEEP               {fmt(p.peep_cmh2o)} cmH2O",
-        f"  Pressure limit     {fmt(p.pressure_limit_cmh2o)} cmH2O"
-        + (f"   (inspiratory pressure {fmt(p.inspiratory_pressure_cmh2o)} cmH2O above PEEP)" if r.mode == "pressure"
-           else ""),
-        f"  FiO2               {fmt(o.fio2)}",
-        f"  Fresh gas          {fmt(o.fresh_gas_ml_min / 1000)} L/min ({o.circuit_label}"
-        + (f"; {fmt(o.fresh_gas_induction_ml_min / 1000)} L/min at induction)" if o.fresh_gas_induction_ml_min
-           > o.fresh_gas_ml_min else ")"),
-        f"  Reservoir bag      {fmt(o.reservoir_bag_l)} L",
-        "",
-        "DERIVED",
-        f"  Metabolic rate     {fmt(m.metabolic_rate_w)} W ({'entered' if m.entered else 'allometric'}); "
-        f"VO2 {fmt(m.vo2_ml_min)} mL/min; VCO2 {fmt(m.vco2_ml_min)} mL/min; RQ {fmt(m.rq)}",
-        f"  Ventilation        alveolar {fmt(v.alveolar_ml_min)} mL/min; minute {fmt(v.minute_ml_min)} mL/min",
-        f"  Dead space         anatomical {fmt(d.anatomical_ml)} + apparatus {fmt(d.apparatus_ml)} + tube "
-        f"{fmt(d.tube_ml)} + alveolar {fmt(d.alveolar_ml)} = {fmt(d.total_ml)} mL "
-        f"({fmt(d.total_ml / v.tidal_volume_ml * 100, 2)} % of VT)",
-        f"  Pressures          plateau {fmt(p.plateau_cmh2o)}; peak {fmt(p.peak_cmh2o)}; driving "
-        f"{fmt(p.driving_cmh2o)} cmH2O; τ {fmt(p.time_constant_s)} s (C {fmt(p.compliance_ml_cmh2o)} mL/cmH2O, "
-        f"R {fmt(p.resistance_cmh2o_l_s)} cmH2O/(L/s))",
-        f"  CO2                target PaCO2 {gas_pressure(v.target_paco2_mmhg, gas_unit)}; "
-        + (f"expected PaCO2 {gas_pressure(v.expected_paco2_mmhg, gas_unit)}, EtCO2 "
-           f"{gas_pressure(v.expected_etco2_mmhg, gas_unit)}" if math.isfinite(v.expected_paco2_mmhg)
-           else "expected: NO alveolar ventilation (every breath is dead space)")
-        + ("" if v.target_reached else "  ** TARGET NOT REACHED **"),
-        f"  Oxygen             PAO2 {gas_pressure(o.pao2_alveolar_mmhg, gas_unit)} (PB "
-        f"{gas_pressure(o.barometric_mmhg, gas_unit)}); minimum O2 flow {fmt(o.min_o2_flow_ml_min)} mL/min",
-        "",
-        "CAUTIONS",
-    ]
-    lines += caution_lines(plan.cautions, gas_unit)
-    lines += ["", "ASSUMPTIONS"]
-    lines += [f"  {a.name}: {fmt(a.value) if isinstance(a.value, float) else a.value} {a.unit} — {a.source}"
-              for a in plan.assumptions]
+def plan_to_text(plan: Plan, gas_unit: str | Units = "mmHg") -> str:
+    """A readable report: settings first, then derived values, cautions, assumptions, the notice."""
+    units = Units(gas=gas_unit) if isinstance(gas_unit, str) else gas_unit
+    r, o = plan.resolved, plan.oxygen
+    lines = [f"ventset {__version__} — starting ventilation plan", patient_line(plan, units),
+             f"{one_line(o.circuit_label)}; {STRATEGY_LABELS[r.strategy].lower()}", "", "SETTINGS"]
+    if not math.isfinite(plan.ventilation.expected_paco2_mmhg):
+        lines.append("  ** NO ALVEOLAR VENTILATION: every breath is dead space. Do not ventilate with these "
+                     "settings; remove apparatus dead space first. **")
+    lines += [f"  {row.name:<22}{row.text:<16}{row.detail}" for row in setting_rows(plan, units)]
+    if not plan.ventilation.target_reached:
+        lines.append("  ** TARGET NOT REACHED (see the cautions) **")
+    for title, rows in derived_sections(plan, units):
+        lines += ["", title.upper()]
+        lines += [f"  {row.name:<36}{row.text}" + (f"  ({row.detail})" if row.detail else "") for row in rows]
+    lines += ["", "CAUTIONS", *caution_lines(plan.cautions, units), "", "ASSUMPTIONS"]
+    lines += [f"  {a.name}: {assumption_value(a, units)} — {a.source}" for a in plan.assumptions]
     lines += ["", "NOTICE: " + plan.standing_notice]
     return "\n".join(lines)

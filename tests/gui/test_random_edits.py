@@ -46,7 +46,7 @@ def _text(rng: random.Random, window, key: str) -> str:
     if r < 0.35 and key != "mass":
         return ""
     if r < 0.9 and window.controller.plan is not None:
-        from ventset.views import field_defaults
+        from ventset.plotdata import field_defaults
 
         p = window.controller.plan
         value = p.resolved.mass_kg if key == "mass" else field_defaults(p).get(key)

@@ -785,7 +785,7 @@ class InputForm(QWidget):
         return set(self._errors)
 
     def _show_defaults(self, plan: Plan) -> None:
-        from ventset.views import field_defaults
+        from ventset.plotdata import field_defaults
 
         defaults = field_defaults(plan, self.library)
         sources = {}

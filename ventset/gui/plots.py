@@ -1,5 +1,5 @@
 """The four live plots. Every item is created once; each plan only calls setData/setPos/setText,
-and the axis ranges are set here from the plan (never auto-ranged). Arrays come from ventset.views."""
+and the axis ranges are set here from the plan (never auto-ranged). Arrays come from ventset.plotdata."""
 
 from __future__ import annotations
 
@@ -21,7 +21,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ventset import views
+from ventset import plotdata
 from ventset.gui.text import Text, plain
 from ventset.gui.theme import DAY, Theme, scaled_font
 from ventset.model import Plan
@@ -181,7 +181,7 @@ class BreathPlot(PlotCard):
         self.cache: dict = {}
         self._ticks: list = []
         self.plot.vb.sigResized.connect(self._resized)
-        self.data: views.BreathComposition | None = None
+        self.data: plotdata.BreathComposition | None = None
         self.set_theme(DAY)
 
     def set_theme(self, theme: Theme) -> None:
@@ -195,7 +195,7 @@ class BreathPlot(PlotCard):
             self._draw(self.data)
 
     def show_plan(self, plan: Plan) -> None:
-        self.data = views.breath_composition(plan)
+        self.data = plotdata.breath_composition(plan)
         self._draw(self.data)
         b = self.data
         tot = b.total_by_category()
@@ -211,11 +211,11 @@ class BreathPlot(PlotCard):
             self.set_caption(f"{lead}NOTHING exchanges gas: the dead space (bars past the dashed end of the "
                              "breath) is larger than the breath.")
 
-    def _draw(self, b: views.BreathComposition) -> None:
+    def _draw(self, b: plotdata.BreathComposition) -> None:
         t = self.theme
         segs = b.segments[: self.POOL]
         n = max(1, len(segs))
-        x_hi = views.nice_ceiling(max(b.set_ml, b.patient_start_ml + b.dead_space_ml) * 1.12)
+        x_hi = plotdata.nice_ceiling(max(b.set_ml, b.patient_start_ml + b.dead_space_ml) * 1.12)
         ticks = []
         ppm = max(1.0, self.plot.vb.width()) / x_hi  # pixels per mL
         fm = self.fontMetrics()
@@ -296,7 +296,7 @@ class SettingsMapPlot(PlotCard):
     """Tidal volume × rate with lines of equal predicted PaCO2, the target band, the pressure limit,
     the species' usual range and the recommended point. Click anywhere to read that alternative."""
 
-    probed = Signal(object)  # views.PointSummary
+    probed = Signal(object)  # plotdata.PointSummary
     N_LINES = 9
 
     def __init__(self, parent: QWidget | None = None) -> None:
@@ -354,9 +354,9 @@ class SettingsMapPlot(PlotCard):
         self.cache: dict = {}
         self.plan: Plan | None = None
         self.gas_unit = "mmHg"
-        self.map: views.SettingsMap | None = None
+        self.map: plotdata.SettingsMap | None = None
         self.probe_at: tuple[float, float] | None = None
-        self.lut = np.zeros((2 * views.N_ZONES, 4), dtype=np.uint8)
+        self.lut = np.zeros((2 * plotdata.N_ZONES, 4), dtype=np.uint8)
         self.set_theme(DAY)
 
     def set_theme(self, theme: Theme) -> None:
@@ -369,7 +369,7 @@ class SettingsMapPlot(PlotCard):
             self.lut[z] = (c.red(), c.green(), c.blue(), 255)
             mix = QColor(int(c.red() * 0.45 + band.red() * 0.55), int(c.green() * 0.45 + band.green() * 0.55),
                          int(c.blue() * 0.45 + band.blue() * 0.55))
-            self.lut[views.N_ZONES + z] = (mix.red(), mix.green(), mix.blue(), 255)
+            self.lut[plotdata.N_ZONES + z] = (mix.red(), mix.green(), mix.blue(), 255)
         self.dead_line.setPen(_pen(theme.danger, 1.5, Qt.PenStyle.DotLine))
         for t in (*self.iso_labels, self.box_label, self.peak_label, self.plateau_label, self.trap_label,
                   self.dead_label):
@@ -389,13 +389,13 @@ class SettingsMapPlot(PlotCard):
 
     def show_plan(self, plan: Plan, gas_unit: str) -> None:
         self.plan, self.gas_unit = plan, gas_unit
-        ranges = views.map_ranges(plan)
+        ranges = plotdata.map_ranges(plan)
         (v0, v1), (r0, r1) = ranges
-        m = views.settings_map(plan, MAP_CELLS, MAP_CELLS, ranges=ranges)
+        m = plotdata.settings_map(plan, MAP_CELLS, MAP_CELLS, ranges=ranges)
         self.map = m
         self.image.setImage(self.lut[m.cell], autoLevels=False)
         self.image.setRect(QRectF(v0, r0, v1 - v0, r1 - r0))
-        lines = views.isolines(plan, gas_unit, ranges=ranges)
+        lines = plotdata.isolines(plan, gas_unit, ranges=ranges)
         gap = np.array([np.nan])
         others = [x for x in lines if not x.is_target]
         if others:
@@ -422,7 +422,7 @@ class SettingsMapPlot(PlotCard):
         _set_text(self.box_label, "usual range")
         self.box_label.setPos(lim.vt_min_ml, lim.rate_max_per_min)
         rates = np.linspace(max(r0, 0.25), r1, 120)
-        pv = views.pressure_boundary_vt(plan, rates)
+        pv = plotdata.pressure_boundary_vt(plan, rates)
         pv[(pv > v1) | (pv < v0)] = np.nan
         self.peak_curve.setData(pv, rates)
         finite = np.nonzero(np.isfinite(pv))[0]
@@ -440,14 +440,14 @@ class SettingsMapPlot(PlotCard):
         _set_text(self.plateau_label, "plateau > limit")
         self.plateau_label.setPos(vt_plat, r0 + 0.03 * (r1 - r0))
         self.plateau_label.setVisible(v0 < vt_plat < v1)
-        vd = views.all_dead_space_vt_ml(plan)
+        vd = plotdata.all_dead_space_vt_ml(plan)
         self.dead_line.setPos(vd)
         self.dead_line.setVisible(v0 < vd < v1)
         _set_text(self.dead_label, "no gas exchange")
         self.dead_label.setPos(vd, r0 + 0.5 * (r1 - r0))
         self._dead_at = (vd, v0, v1)
         self.dead_label.setVisible(v0 < vd < v1)
-        trap = views.trapping_rate_per_min(plan, rate_hi=r1)
+        trap = plotdata.trapping_rate_per_min(plan, rate_hi=r1)
         self.trap_line.setPos(trap if math.isfinite(trap) else r1 * 2)
         self.trap_line.setVisible(math.isfinite(trap) and r0 < trap < r1)
         _set_text(self.trap_label, "↑ expiration under 3 τ")
@@ -484,21 +484,21 @@ class SettingsMapPlot(PlotCard):
         pt = self.plot.vb.mapSceneToView(pos)
         self.probe_point(pt.x(), pt.y())
 
-    def probe_point(self, vt_ml: float, rate: float) -> views.PointSummary | None:
+    def probe_point(self, vt_ml: float, rate: float) -> plotdata.PointSummary | None:
         if self.plan is None or vt_ml <= 0 or rate <= 0:
             return None
         self.probe_at = (vt_ml, rate)
         return self._show_probe(vt_ml, rate)
 
-    def _show_probe(self, vt_ml: float, rate: float) -> views.PointSummary:
-        s = views.point_summary(self.plan, vt_ml, rate)
+    def _show_probe(self, vt_ml: float, rate: float) -> plotdata.PointSummary:
+        s = plotdata.point_summary(self.plan, vt_ml, rate)
         self.probe.setData([vt_ml], [rate])
         u = self.gas_unit
         if math.isfinite(s.paco2_mmhg):
             gas_txt = f"PaCO2 ≈ {_gas_fmt(s.paco2_mmhg, u)} (EtCO2 ≈ {_gas_fmt(s.etco2_mmhg, u)})"
         else:
             gas_txt = "NO alveolar ventilation (breath smaller than the dead space)"
-        zone = "" if s.zone == views.ZONE_USUAL else f" — {views.ZONE_LABELS[s.zone]}"
+        zone = "" if s.zone == plotdata.ZONE_USUAL else f" — {plotdata.ZONE_LABELS[s.zone]}"
         self.readout.setText(
             f"+ {fmt(s.vt_ml)} mL ({fmt(s.vt_ml_kg)} mL/kg) × {fmt(s.rate_per_min)}/min: {gas_txt}; plateau "
             f"{fmt(s.plateau_cmh2o)}, {s.top_name} {fmt(s.top_cmh2o)} cmH2O; expiration {fmt(s.te_tau, 2)} τ"
@@ -550,7 +550,7 @@ class WaveformPlot(PlotCard):
         self.plots[2].addItem(self.left_line)
         self.add_plot(self.widget)
         self.caches = [{}, {}, {}]
-        self.data: views.Waveforms | None = None
+        self.data: plotdata.Waveforms | None = None
         self.set_theme(DAY)
 
     def set_theme(self, theme: Theme) -> None:
@@ -567,7 +567,7 @@ class WaveformPlot(PlotCard):
         self.left_line.setPen(_pen(theme.caution, 1.5, Qt.PenStyle.DashLine))
 
     def show_plan(self, plan: Plan) -> None:
-        w = views.waveforms(plan)
+        w = plotdata.waveforms(plan)
         self.data = w
         for c, y in zip(self.curves, (w.pressure_cmh2o, w.flow_l_min, w.volume_ml), strict=True):
             c.setData(w.time_s, y)
@@ -630,7 +630,7 @@ class SensitivityPlot(PlotCard):
         self.plot.addItem(self.now_label)
         self.add_plot(self.widget)
         self.cache: dict = {}
-        self.data: views.Sensitivity | None = None
+        self.data: plotdata.Sensitivity | None = None
         self.gas_unit = "mmHg"
         self.set_theme(DAY)
 
@@ -650,7 +650,7 @@ class SensitivityPlot(PlotCard):
         self.now_label.setColor(QColor(theme.plot_fg))
 
     def show_plan(self, plan: Plan, gas_unit: str) -> None:
-        s = views.dead_space_sensitivity(plan)
+        s = plotdata.dead_space_sensitivity(plan)
         self.data, self.gas_unit = s, gas_unit
         if self.cache.get("label") != gas_unit:  # a new label redraws the axis: only on a unit change
             self.cache["label"] = gas_unit

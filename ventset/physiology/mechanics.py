@@ -3,10 +3,6 @@
 from __future__ import annotations
 
 import math
-from typing import TYPE_CHECKING
-
-if TYPE_CHECKING:
-    import numpy as np
 
 
 def breath_timing_s(rate_per_min: float, ie_expiratory_part: float) -> tuple[float, float]:
@@ -35,7 +31,18 @@ def peak_cmh2o_constant_flow(vt_ml: float, ti_s: float, compliance_ml_cmh2o: flo
 
 def pressure_control_delta_cmh2o(vt_ml: float, ti_s: float, compliance_ml_cmh2o: float, tau_s: float) -> float:
     """Inspiratory pressure above PEEP that delivers VT in Ti with a square pressure: VT/(C·(1 − e^(−Ti/τ)))."""
-    return vt_ml / (compliance_ml_cmh2o * (1.0 - math.e ** (-ti_s / tau_s)))  # float or numpy array
+    return vt_ml / vt_at_square_pressure(1.0, ti_s, compliance_ml_cmh2o, tau_s)  # float or numpy array
+
+
+def vt_at_peak_constant_flow(peak_cmh2o, flow_time_s, compliance_ml_cmh2o: float, resistance_cmh2o_l_s: float,
+                             peep_cmh2o: float):
+    """Tidal volume (mL) whose constant-flow peak equals ``peak``: the inverse of peak_cmh2o_constant_flow."""
+    return (peak_cmh2o - peep_cmh2o) / (1.0 / compliance_ml_cmh2o + resistance_cmh2o_l_s / 1000.0 / flow_time_s)
+
+
+def vt_at_square_pressure(delta_cmh2o, ti_s, compliance_ml_cmh2o: float, tau_s: float):
+    """Tidal volume (mL) a square pressure ΔP above PEEP delivers in Ti: C·ΔP·(1 − e^(−Ti/τ))."""
+    return compliance_ml_cmh2o * delta_cmh2o * (1.0 - math.e ** (-ti_s / tau_s))
 
 
 def otis_optimal_rate_per_min(va_l_min: float, vd_l: float, rc_s: float) -> float:
@@ -49,13 +56,14 @@ def otis_optimal_rate_per_min(va_l_min: float, vd_l: float, rc_s: float) -> floa
 
 def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2o: float,
               resistance_cmh2o_l_s: float, peep_cmh2o: float, mode: str, breaths: int = 3,
-              points_per_breath: int = 200) -> dict[str, np.ndarray]:
+              points_per_breath: int = 200, pause_s: float = 0.0) -> dict:
     """Sample airway pressure (cmH2O), flow (L/min) and volume (mL) over ``breaths`` breaths.
 
-    Passive single-compartment lung (P = V/C + R·V̇ + PEEP). Volume mode: constant flow VT/Ti.
-    Pressure mode: square pressure that delivers VT in Ti. Expiration is passive: V = V_end·e^(−t/τ),
-    so a short Te shows as volume not returning to zero (trapped gas). Breaths are simulated in
-    sequence, so trapped volume carries over.
+    Passive single-compartment lung (P = V/C + R·V̇ + PEEP; Bates 2009). Volume mode: constant flow VT/(Ti − pause),
+    then an inspiratory pause with no flow (pressure falls to the plateau). Pressure mode: square pressure that
+    delivers VT in Ti. Expiration is passive: V = V_end·e^(−t/τ), so a short Te shows as volume not returning
+    to zero (trapped gas). Breaths are simulated in sequence, so trapped volume carries over;
+    ``end_expiratory_ml`` is the volume left at the end of the last breath.
     """
     import numpy as np
 
@@ -63,10 +71,14 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
     tau = time_constant_s(resistance_cmh2o_l_s, c)
     cycle = 60.0 / rate_per_min
     te = cycle - ti_s
+    pause = pause_s if mode != "pressure" else 0.0
+    t_flow = ti_s - pause
     n = points_per_breath
-    n_i = max(2, int(round(n * ti_s / cycle)))
-    n_e = max(2, n - n_i)
-    ti_local = np.linspace(0.0, ti_s, n_i, endpoint=False)
+    n_i = max(2, int(round(n * t_flow / cycle)))
+    n_p = max(2, int(round(n * pause / cycle))) if pause > 0 else 0
+    n_e = max(2, n - n_i - n_p)
+    ti_local = np.linspace(0.0, t_flow, n_i, endpoint=False)
+    tp_local = np.linspace(0.0, pause, n_p, endpoint=False)
     te_local = np.linspace(0.0, te, n_e, endpoint=False)
     t_all, p_all, q_all, v_all = [], [], [], []
     v0 = 0.0
@@ -79,24 +91,24 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
             v_i = v_target + (v0 - v_target) * np.exp(-ti_local / tau)
             q_i = (v_target - v_i) / tau  # mL/s
             p_i = np.full_like(ti_local, peep_cmh2o + dp)
+            v_end = float(v_target + (v0 - v_target) * math.exp(-ti_s / tau))
         else:
-            q_const = vt_ml / ti_s
+            q_const = vt_ml / t_flow
             v_i = v0 + q_const * ti_local
             q_i = np.full_like(ti_local, q_const)
             p_i = v_i / c + r_ml * q_i + peep_cmh2o
-        v_end = float(v_i[-1] + q_i[-1] * (ti_s / n_i)) if mode != "pressure" else float(
-            v_target + (v0 - v_target) * math.exp(-ti_s / tau))
+            v_end = v0 + vt_ml
+        v_p = np.full_like(tp_local, v_end)
         v_e = v_end * np.exp(-te_local / tau)
-        q_e = -v_e / tau
-        p_e = np.full_like(te_local, peep_cmh2o)
-        t_all += [t0 + ti_local, t0 + ti_s + te_local]
-        p_all += [p_i, p_e]
-        q_all += [q_i, q_e]
-        v_all += [v_i, v_e]
+        t_all += [t0 + ti_local, t0 + t_flow + tp_local, t0 + ti_s + te_local]
+        p_all += [p_i, v_p / c + peep_cmh2o, np.full_like(te_local, peep_cmh2o)]
+        q_all += [q_i, np.zeros_like(tp_local), -v_e / tau]
+        v_all += [v_i, v_p, v_e]
         v0 = v_end * math.exp(-te / tau)
     return {
         "time_s": np.concatenate(t_all),
         "pressure_cmh2o": np.concatenate(p_all),
         "flow_l_min": np.concatenate(q_all) * 60.0 / 1000.0,
         "volume_ml": np.concatenate(v_all),
+        "end_expiratory_ml": v0,
     }

@@ -1,10 +1,9 @@
-"""Numbers and arrays behind the window's plots and read-outs, computed from a finished Plan.
+"""Numbers and arrays behind the window's plots, computed from a finished Plan.
 
-Pure numpy, no Qt, so every curve the window draws can be checked without a display. All
-quantities are plain floats/arrays with the unit in the name, exactly as the planner uses them:
-PaCO2 = VCO2·K(T) / (f·(VT·(1 − f_alv) − VD_fixed)) (alveolar ventilation equation), plateau =
-VT/C + PEEP, constant-flow peak = plateau + R·VT/Ti, pressure-mode rise = VT/(C·(1 − e^(−Ti/τ)))
-(single-compartment equation of motion).
+Pure numpy, no Qt, so every curve the window draws can be checked without a display. Every point is
+evaluated through the one evaluation of the patient (ventset.evaluate: ``evaluate`` for a point,
+``evaluate_grid`` for the settings map), on the plan's own resolved patient (``plan.subject``); nothing here
+writes a physiological formula of its own.
 """
 
 from __future__ import annotations
@@ -14,17 +13,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ventset.library import Library, Species, load_library
+from ventset.evaluate import Subject, evaluate, evaluate_grid
+from ventset.library import Library
 from ventset.model import Plan
-from ventset.physiology import gas, mechanics
-from ventset.planner import default_ti_s, paco2_grid
+from ventset.physiology import deadspace, gas, mechanics
 
 # Half-width of the target band drawn on the plots. A display choice: clinicians titrate EtCO2/PaCO2
 # to within about ±5 mmHg (0.7 kPa) of the aim (common practice).
 BAND_HALF_WIDTH_MMHG = 5.0
-# Expiration is called complete after this many time constants (same number as the caution rule uses
-# by default; cautions.toml expiration_tau_caution, common practice).
-COMPLETE_EXPIRATION_TAU = 3.0
 
 # ---------------------------------------------------------------------------------------------
 # 1. Breath composition
@@ -106,7 +102,7 @@ def breath_composition(plan: Plan) -> BreathComposition:
 
 ZONE_USUAL = 0
 ZONE_OUTSIDE = 1       # outside the species' usual tidal volume or rate
-ZONE_TRAPPING = 2      # expiration shorter than 3 time constants
+ZONE_TRAPPING = 2      # expiration shorter than the caution threshold in time constants
 ZONE_PEAK = 3          # peak (volume mode) or inspiratory (pressure mode) pressure above the limit
 ZONE_PLATEAU = 4       # plateau above the limit
 ZONE_IMPOSSIBLE = 5    # the entered inspiratory time does not fit the breath at this rate
@@ -123,57 +119,23 @@ ZONE_LABELS = {
 N_ZONES = len(ZONE_LABELS)
 
 
-@dataclass(frozen=True)
-class Mechanics:
-    """What the zone and point calculations need from a plan."""
-
-    vco2_ml_min: float
-    body_temp_c: float
-    vd_fixed_ml: float
-    f_alv: float
-    compliance_ml_cmh2o: float
-    resistance_cmh2o_l_s: float
-    tau_s: float
-    peep_cmh2o: float
-    limit_cmh2o: float
-    compressible_ml_cmh2o: float
-    gradient_mmhg: float
-    mode: str
-    lean_kg: float
+def subject_of(plan: Plan) -> Subject:
+    """The resolved patient the plan's settings were evaluated on."""
+    if plan.subject is None:  # pragma: no cover - every plan from planner.plan carries it
+        raise ValueError("a plan from ventset.planner.plan is needed")
+    return plan.subject
 
 
-def plan_mechanics(plan: Plan) -> Mechanics:
-    d, p, r = plan.dead_space, plan.pressures, plan.resolved
-    return Mechanics(plan.metabolism.vco2_ml_min, r.body_temp_c, d.total_ml - d.alveolar_ml,
-                     r.alveolar_dead_space_fraction, p.compliance_ml_cmh2o, p.resistance_cmh2o_l_s,
-                     p.time_constant_s, p.peep_cmh2o, p.pressure_limit_cmh2o, p.compressible_ml_cmh2o,
-                     r.gradient_mmhg, r.mode, r.lean_mass_kg)
+def _trapping_tau(library: Library | None) -> float:
+    """Expiration is called complete after this many time constants (cautions.toml expiration_tau_caution)."""
+    from ventset.library import load_library
+
+    return (library or load_library()).cautions["expiration_tau_caution"].value
 
 
-def _species(plan: Plan, library: Library | None) -> tuple[Species, Library]:
-    lib = library or load_library()
-    sp = lib.find_species(plan.resolved.species)
-    if sp is None:  # pragma: no cover - a plan always names a library species
-        raise KeyError(plan.resolved.species)
-    return sp, lib
-
-
-def ti_at_rates(plan: Plan, rates_per_min: np.ndarray, library: Library | None = None) -> np.ndarray:
-    """Inspiratory time (s) the planner would use at each rate, by the same rule as the plan.
-
-    Entered Ti: that Ti; entered I:E: (60/f)/(1 + E); neither: the shorter of the species' typical Ti
-    and the Ti its I:E gives (planner._timing).
-    """
-    rates = np.asarray(rates_per_min, dtype=float)
-    cycle = 60.0 / rates
-    t = plan.request.targets
-    if t.ti_s is not None:
-        return np.full_like(cycle, t.ti_s)
-    if t.ie_expiratory_part is not None:
-        return cycle / (1.0 + t.ie_expiratory_part)
-    sp, lib = _species(plan, library)
-    ti_typ, _ = default_ti_s(plan.resolved.lean_mass_kg, sp, lib)
-    return np.minimum(ti_typ, cycle / (1.0 + sp.ie_expiratory_part.value))
+def ti_at_rates(plan: Plan, rates_per_min: np.ndarray) -> np.ndarray:
+    """Inspiratory time (s) the planner would use at each rate, by the plan's own Ti rule."""
+    return np.asarray(subject_of(plan).timing.ti_s(np.asarray(rates_per_min, dtype=float)), dtype=float)
 
 
 def nice_ceiling(x: float) -> float:
@@ -185,6 +147,11 @@ def nice_ceiling(x: float) -> float:
         if step * mag >= x * (1 - 1e-12):
             return step * mag
     return 10 * mag  # pragma: no cover
+
+
+def all_dead_space_vt_ml(plan: Plan) -> float:
+    """Tidal volume (mL) that is all dead space: VD_fixed/(1 − f_alv); the map's lines rise steeply towards it."""
+    return subject_of(plan).all_dead_space_vt_ml
 
 
 def map_ranges(plan: Plan) -> tuple[tuple[float, float], tuple[float, float]]:
@@ -215,70 +182,53 @@ class SettingsMap:
     band_mmhg: tuple[float, float]
 
 
-def zones(plan: Plan, vt_ml: np.ndarray, rate_per_min: np.ndarray, library: Library | None = None,
-          m: Mechanics | None = None) -> np.ndarray:
+def zones(plan: Plan, vt_ml: np.ndarray, rate_per_min: np.ndarray, library: Library | None = None) -> np.ndarray:
     """Zone index (ZONE_*) for each (rate, tidal volume) pair on the outer grid (rows = rates)."""
-    m = m or plan_mechanics(plan)
-    lim = plan.limits
-    vt = np.asarray(vt_ml, dtype=float)[None, :]
-    rate = np.asarray(rate_per_min, dtype=float)[:, None]
-    ti = ti_at_rates(plan, rate[:, 0], library)[:, None]
-    cycle = 60.0 / rate
-    te = cycle - ti
-    z = np.zeros((rate.shape[0], vt.shape[1]), dtype=np.uint8)
+    s, lim = subject_of(plan), plan.limits
+    g = evaluate_grid(s, vt_ml, rate_per_min)
+    vt, rate = g.vt_ml[None, :], g.rate_per_min[:, None]
+    z = np.zeros(g.paco2_mmhg.shape, dtype=np.uint8)
     outside = ((vt < lim.vt_min_ml - 1e-9) | (vt > lim.vt_max_ml + 1e-9) | (rate < lim.rate_min_per_min - 1e-9)
                | (rate > lim.rate_max_per_min + 1e-9))
     z[outside] = ZONE_OUTSIDE
-    z[np.broadcast_to(te < COMPLETE_EXPIRATION_TAU * m.tau_s, z.shape)] = ZONE_TRAPPING
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        if m.mode == "pressure":
-            top = m.peep_cmh2o + vt / (m.compliance_ml_cmh2o * (1.0 - np.exp(-ti / m.tau_s)))
-        else:
-            top = vt / m.compliance_ml_cmh2o + m.peep_cmh2o + m.resistance_cmh2o_l_s * vt / 1000.0 / ti
-    z[top > m.limit_cmh2o + 1e-9] = ZONE_PEAK
-    plateau = vt / m.compliance_ml_cmh2o + m.peep_cmh2o
-    z[np.broadcast_to(plateau > m.limit_cmh2o + 1e-9, z.shape)] = ZONE_PLATEAU
-    if plan.request.targets.ti_s is not None:
-        z[np.broadcast_to(ti >= 0.8 * cycle, z.shape)] = ZONE_IMPOSSIBLE
-    z[np.broadcast_to(vt * (1.0 - m.f_alv) <= m.vd_fixed_ml, z.shape)] = ZONE_DEAD
+    z[g.te_s < _trapping_tau(library) * s.time_constant_s] = ZONE_TRAPPING
+    z[g.peak_cmh2o > s.pressure_limit_cmh2o + 1e-9] = ZONE_PEAK
+    z[g.plateau_cmh2o > s.pressure_limit_cmh2o + 1e-9] = ZONE_PLATEAU
+    if s.timing.entered_ti_s is not None:
+        z[~g.ti_fits] = ZONE_IMPOSSIBLE
+    z[g.exchange_ml <= 0] = ZONE_DEAD
     return z
 
 
 def settings_map(plan: Plan, n_vt: int = 200, n_rate: int = 200, library: Library | None = None,
                  ranges: tuple[tuple[float, float], tuple[float, float]] | None = None) -> SettingsMap:
-    """PaCO2 (planner.paco2_grid) and zones on an n_rate × n_vt grid of cell centres."""
+    """PaCO2 and zones on an n_rate × n_vt grid of cell centres (evaluate_grid)."""
     (v0, v1), (r0, r1) = ranges or map_ranges(plan)
-    m = plan_mechanics(plan)
     vt = v0 + (np.arange(n_vt) + 0.5) * (v1 - v0) / n_vt
     rate = r0 + (np.arange(n_rate) + 0.5) * (r1 - r0) / n_rate
-    pa = paco2_grid(vt, rate, m.vco2_ml_min, m.body_temp_c, m.vd_fixed_ml, m.f_alv)
+    pa = evaluate_grid(subject_of(plan), vt, rate).paco2_mmhg
     target = plan.ventilation.target_paco2_mmhg
     band = (target - BAND_HALF_WIDTH_MMHG, target + BAND_HALF_WIDTH_MMHG)
     in_band = (pa >= band[0]) & (pa <= band[1])
-    z = zones(plan, vt, rate, library, m)
+    z = zones(plan, vt, rate, library)
     cell = z + np.uint8(N_ZONES) * in_band.astype(np.uint8)
     return SettingsMap(vt, rate, pa, z, in_band, cell, (v0, v1), (r0, r1), band)
 
 
-def isopaco2_rate(level_mmhg: float, vt_ml: np.ndarray, m: Mechanics) -> np.ndarray:
-    """Rate (/min) at which each tidal volume gives PaCO2 = level: VCO2·K/(level·(VT(1−f_alv) − VD)).
-
-    NaN where the breath is all dead space. The analytic form of the map's contour lines.
-    """
-    va = m.vco2_ml_min * gas.alveolar_constant_mmhg(m.body_temp_c) / level_mmhg
-    eff = np.asarray(vt_ml, dtype=float) * (1.0 - m.f_alv) - m.vd_fixed_ml
+def isopaco2_rate(level_mmhg: float, vt_ml: np.ndarray, s: Subject) -> np.ndarray:
+    """Rate (/min) at which each tidal volume gives PaCO2 = level (NaN where the breath is all dead space)."""
+    vt = np.asarray(vt_ml, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
-        out = va / eff
-    out[eff <= 0] = np.nan
+        out = np.asarray(s.rate_for_vt_array(s.alveolar_ventilation_ml_min(level_mmhg), vt), dtype=float)
+    out[s.exchange_ml(vt) <= 0] = np.nan
     return out
 
 
 def contour_levels(target_mmhg: float, gas_unit: str = "mmHg", count: int = 7) -> list[float]:
     """PaCO2 levels (mmHg) for the map: round steps in the user's unit around the target, plus the target."""
-    if gas_unit == "kPa":
-        step_mmhg = 7.500615758  # 1 kPa
-    else:
-        step_mmhg = 10.0
+    from ventset.present.quantities import MMHG_PER_KPA
+
+    step_mmhg = MMHG_PER_KPA if gas_unit == "kPa" else 10.0
     base = round(target_mmhg / step_mmhg) * step_mmhg
     half = count // 2
     levels = [base + k * step_mmhg for k in range(-half, count - half)]
@@ -295,23 +245,17 @@ class IsoLine:
     label_at: tuple[float, float] | None  # where its label goes (mL, /min), None when off the map
 
 
-def _label_at(level: float, m: Mechanics, target: float, ranges) -> tuple[float, float] | None:
+def _label_at(level: float, s: Subject, target: float, ranges) -> tuple[float, float] | None:
     """A label spot for the line of PaCO2 = level: all labels on one vertical where the target line sits at
     80 % of the rate axis (lines are well apart there); a line that leaves the top first is labelled at the top."""
     (v0, v1), (r0, r1) = ranges
-    k = m.vco2_ml_min * gas.alveolar_constant_mmhg(m.body_temp_c)
-
-    def vt_at(rate: float, lev: float) -> float:
-        return (k / lev / rate + m.vd_fixed_ml) / (1.0 - m.f_alv)
-
-    vt = vt_at(r0 + 0.8 * (r1 - r0), target)
+    vt = s.vt_for_rate(s.alveolar_ventilation_ml_min(target), r0 + 0.8 * (r1 - r0))
     if not v0 < vt < v1:
         vt = v0 + 0.6 * (v1 - v0)
-    eff = vt * (1.0 - m.f_alv) - m.vd_fixed_ml
-    rate = k / level / eff if eff > 0 else math.inf
+    rate = s.rate_for_vt(s.alveolar_ventilation_ml_min(level), vt)
     top = r0 + 0.92 * (r1 - r0)
     if rate > top:
-        vt, rate = vt_at(top, level), top
+        vt, rate = s.vt_for_rate(s.alveolar_ventilation_ml_min(level), top), top
     if not (v0 < vt < v1 and r0 < rate < r1):
         return None
     return vt, rate
@@ -321,42 +265,33 @@ def isolines(plan: Plan, gas_unit: str = "mmHg", n: int = 160,
              ranges: tuple[tuple[float, float], tuple[float, float]] | None = None) -> list[IsoLine]:
     """Lines of equal predicted PaCO2 across the map (points beyond the rate range are NaN)."""
     (v0, v1), (r0, r1) = ranges or map_ranges(plan)
-    m = plan_mechanics(plan)
+    s = subject_of(plan)
     vt = np.linspace(v0, v1, n)
     target = plan.ventilation.target_paco2_mmhg
     out = []
     for level in contour_levels(target, gas_unit):
-        rate = isopaco2_rate(level, vt, m)
+        rate = isopaco2_rate(level, vt, s)
         rate[(rate > r1) | (rate < r0)] = np.nan
-        out.append(IsoLine(level, vt, rate, abs(level - target) < 1e-9, _label_at(level, m, target,
-                                                                                ((v0, v1), (r0, r1)))))
+        out.append(IsoLine(level, vt, rate, abs(level - target) < 1e-9,
+                           _label_at(level, s, target, ((v0, v1), (r0, r1)))))
     return out
 
 
-def all_dead_space_vt_ml(plan: Plan) -> float:
-    """Tidal volume (mL) that is all dead space: VD_fixed/(1 − f_alv); the map's lines rise steeply towards it."""
-    m = plan_mechanics(plan)
-    return m.vd_fixed_ml / (1.0 - m.f_alv)
-
-
-def pressure_boundary_vt(plan: Plan, rates_per_min: np.ndarray, library: Library | None = None) -> np.ndarray:
+def pressure_boundary_vt(plan: Plan, rates_per_min: np.ndarray) -> np.ndarray:
     """Largest tidal volume (mL) at each rate whose predicted peak (volume mode) or inspiratory pressure
-    (pressure mode) stays at the limit."""
-    m = plan_mechanics(plan)
-    ti = ti_at_rates(plan, rates_per_min, library)
-    room = m.limit_cmh2o - m.peep_cmh2o
+    (pressure mode) stays at the limit (Subject.vt_at_pressure)."""
+    s = subject_of(plan)
+    rates = np.asarray(rates_per_min, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        if m.mode == "pressure":
-            return room * m.compliance_ml_cmh2o * (1.0 - np.exp(-ti / m.tau_s))
-        return room / (1.0 / m.compliance_ml_cmh2o + m.resistance_cmh2o_l_s / 1000.0 / ti)
+        return np.asarray(s.vt_at_pressure(s.pressure_limit_cmh2o, s.timing.ti_s(rates)), dtype=float)
 
 
 def trapping_rate_per_min(plan: Plan, library: Library | None = None, rate_hi: float = 1000.0) -> float:
-    """Rate (/min) above which expiration is shorter than 3 time constants (inf if never within rate_hi)."""
-    tau = plan.pressures.time_constant_s
+    """Rate (/min) above which expiration is shorter than the caution threshold of time constants."""
+    s = subject_of(plan)
     rates = np.linspace(0.5, rate_hi, 4000)
-    te = 60.0 / rates - ti_at_rates(plan, rates, library)
-    bad = np.nonzero(te < COMPLETE_EXPIRATION_TAU * tau)[0]
+    te = 60.0 / rates - s.timing.ti_s(rates)
+    bad = np.nonzero(te < _trapping_tau(library) * s.time_constant_s)[0]
     return float(rates[bad[0]]) if bad.size else math.inf
 
 
@@ -380,24 +315,13 @@ class PointSummary:
 
 
 def point_summary(plan: Plan, vt_ml: float, rate_per_min: float, library: Library | None = None) -> PointSummary:
-    """Predicted PaCO2, EtCO2 and pressures at (vt_ml, rate_per_min) for this patient."""
-    m = plan_mechanics(plan)
-    eff = vt_ml * (1.0 - m.f_alv) - m.vd_fixed_ml
-    va = rate_per_min * eff
-    paco2 = gas.paco2_mmhg_from_va(m.vco2_ml_min, va, m.body_temp_c) if va > 0 else math.inf
-    ti = float(ti_at_rates(plan, np.array([rate_per_min]), library)[0])
-    te = 60.0 / rate_per_min - ti
-    plateau = mechanics.plateau_cmh2o(vt_ml, m.compliance_ml_cmh2o, m.peep_cmh2o)
-    if m.mode == "pressure":
-        top = m.peep_cmh2o + mechanics.pressure_control_delta_cmh2o(vt_ml, ti, m.compliance_ml_cmh2o, m.tau_s)
-        name, compressed = "inspiratory pressure", 0.0
-    else:
-        top = mechanics.peak_cmh2o_constant_flow(vt_ml, ti, m.compliance_ml_cmh2o, m.resistance_cmh2o_l_s,
-                                                 m.peep_cmh2o)
-        name, compressed = "peak", m.compressible_ml_cmh2o * (top - m.peep_cmh2o)
-    zone = int(zones(plan, np.array([vt_ml]), np.array([rate_per_min]), library, m)[0, 0])
-    return PointSummary(vt_ml, rate_per_min, vt_ml / m.lean_kg, vt_ml * rate_per_min, paco2,
-                        paco2 - m.gradient_mmhg, plateau, top, name, ti, te / m.tau_s, vt_ml + compressed, zone)
+    """Predicted PaCO2, EtCO2 and pressures at (vt_ml, rate_per_min) for this patient (ventset.evaluate)."""
+    s = subject_of(plan)
+    ev = evaluate(s, vt_ml, rate_per_min)
+    name = "inspiratory pressure" if s.mode == "pressure" else "peak"
+    zone = int(zones(plan, np.array([vt_ml]), np.array([rate_per_min]), library)[0, 0])
+    return PointSummary(vt_ml, rate_per_min, vt_ml / s.lean_mass_kg, ev.minute_ml_min, ev.paco2_mmhg, ev.etco2_mmhg,
+                        ev.plateau_cmh2o, ev.peak_cmh2o, name, ev.ti_s, ev.te_tau, ev.set_vt_ml, zone)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -415,36 +339,28 @@ class Waveforms:
     end_expiratory_fraction: float  # of the tidal volume
     auto_peep_cmh2o: float          # that volume over compliance
     te_tau: float
-    complete: bool                  # Te ≥ 3 τ
+    complete: bool                  # Te ≥ the caution threshold of time constants
     time_range: tuple[float, float]
     pressure_range: tuple[float, float]
     flow_range: tuple[float, float]
     volume_range: tuple[float, float]
 
 
-def waveforms(plan: Plan, breaths: int = 3, points_per_breath: int = 200) -> Waveforms:
+def waveforms(plan: Plan, breaths: int = 3, points_per_breath: int = 200,
+              library: Library | None = None) -> Waveforms:
     """Airway pressure, flow and volume over a few breaths at the plan's settings (mechanics.waveforms)."""
-    v, p, r = plan.ventilation, plan.pressures, plan.resolved
-    w = mechanics.waveforms(v.tidal_volume_ml, v.rate_per_min, v.ti_s, p.compliance_ml_cmh2o,
-                            p.resistance_cmh2o_l_s, p.peep_cmh2o, r.mode, breaths, points_per_breath)
-    cycle = 60.0 / v.rate_per_min
-    tau, c = p.time_constant_s, p.compliance_ml_cmh2o
-    # Volume above the relaxed lung at the end of the last breath (same recurrence as mechanics.waveforms).
-    left = 0.0
-    for _ in range(breaths):
-        if r.mode == "pressure":
-            full = c * mechanics.pressure_control_delta_cmh2o(v.tidal_volume_ml, v.ti_s, c, tau)
-            end_insp = full + (left - full) * math.exp(-v.ti_s / tau)
-        else:
-            end_insp = left + v.tidal_volume_ml
-        left = end_insp * math.exp(-(cycle - v.ti_s) / tau)
+    v, p, s = plan.ventilation, plan.pressures, subject_of(plan)
+    w = mechanics.waveforms(v.tidal_volume_ml, v.rate_per_min, v.ti_s, p.compliance_ml_cmh2o, p.resistance_cmh2o_l_s,
+                            p.peep_cmh2o, s.mode, breaths, points_per_breath, s.timing.pause_s)
+    left = float(w["end_expiratory_ml"])
     frac = left / v.tidal_volume_ml if v.tidal_volume_ml > 0 else 0.0
     te_tau = v.te_s / p.time_constant_s
     p_top = max(float(np.max(w["pressure_cmh2o"])), p.pressure_limit_cmh2o)
     q_top = float(np.max(np.abs(w["flow_l_min"])))
     vol_top = float(np.max(w["volume_ml"]))
+    cycle = 60.0 / v.rate_per_min
     return Waveforms(w["time_s"], w["pressure_cmh2o"], w["flow_l_min"], w["volume_ml"], left, frac,
-                     left / p.compliance_ml_cmh2o, te_tau, te_tau >= COMPLETE_EXPIRATION_TAU,
+                     left / p.compliance_ml_cmh2o, te_tau, te_tau >= _trapping_tau(library),
                      (0.0, breaths * cycle), (0.0, nice_ceiling(p_top * 1.1)),
                      (-nice_ceiling(q_top * 1.1), nice_ceiling(q_top * 1.1)), (0.0, nice_ceiling(vol_top * 1.1)))
 
@@ -475,28 +391,29 @@ class Sensitivity:
 
 
 def dead_space_sensitivity(plan: Plan, n: int = 160) -> Sensitivity:
-    """PaCO2 = VCO2·K/(f·(VT(1 − f_alv) − VD_anat − x)) for apparatus dead space x from 0 upwards."""
-    m = plan_mechanics(plan)
-    v, d = plan.ventilation, plan.dead_space
-    k_vco2 = m.vco2_ml_min * gas.alveolar_constant_mmhg(m.body_temp_c)
+    """PaCO2 for apparatus dead space x from 0 upwards: the plan's patient with VD_fixed = anatomical + x."""
+    from dataclasses import replace
+
+    s, v, d = subject_of(plan), plan.ventilation, plan.dead_space
     current = d.apparatus_ml + d.tube_ml
-    fixed_rest = m.vd_fixed_ml - current          # anatomical dead space
-    room = v.tidal_volume_ml * (1.0 - m.f_alv) - fixed_rest   # apparatus volume that leaves no exchange
+    bare = replace(s, vd_fixed_ml=s.vd_fixed_ml - current)   # the patient with no apparatus
+    room = bare.exchange_ml(v.tidal_volume_ml)                # apparatus volume that leaves no exchange
     target = v.target_paco2_mmhg
     y_max = nice_ceiling(max(2.0 * target, target + 3 * BAND_HALF_WIDTH_MMHG))
-    x_at_ymax = room - k_vco2 / (v.rate_per_min * y_max)
+    x_at_ymax = room - bare.alveolar_ventilation_ml_min(y_max) / v.rate_per_min
     x_hi = nice_ceiling(max(x_at_ymax * 1.05, current * 1.3, 1.0))
     x = np.linspace(0.0, x_hi, n)
-    eff = room - x
+    va = v.rate_per_min * (room - x)
     with np.errstate(divide="ignore", invalid="ignore"):
-        pa = k_vco2 / (v.rate_per_min * eff)
-        # Minute volume holding the target at this rate: f·VT with VT = (VA/f + VD)/(1 − f_alv).
-        minute = (m.vco2_ml_min * gas.alveolar_constant_mmhg(m.body_temp_c) / target
-                  + v.rate_per_min * (fixed_rest + x)) / (1.0 - m.f_alv)
-    pa[(eff <= 0) | (pa > y_max)] = np.nan
-    eff0 = room - current
-    cur = k_vco2 / (v.rate_per_min * eff0) if eff0 > 0 else math.inf
-    slope = k_vco2 / (v.rate_per_min * eff0 * eff0) if eff0 > 0 else math.inf
+        pa = np.where(va > 0, gas.paco2_mmhg_from_va(s.vco2_ml_min, va, s.body_temp_c), np.nan)
+        minute = v.rate_per_min * deadspace.vt_for_alveolar_ml(bare.alveolar_ventilation_ml_min(target),
+                                                               v.rate_per_min, bare.vd_fixed_ml + x,
+                                                               s.alveolar_fraction)
+    pa[pa > y_max] = np.nan
+    cur = evaluate(s, v.tidal_volume_ml, v.rate_per_min).paco2_mmhg
+    # dPaCO2/dx = PaCO2²·f/(K·VCO2): the derivative of the alveolar ventilation equation in VD.
+    slope = cur * cur * v.rate_per_min / (s.vco2_ml_min * s.alveolar_constant_mmhg) if math.isfinite(cur) \
+        else math.inf
     return Sensitivity(x, pa, minute, current, cur, slope, room, (0.0, x_hi), (0.0, y_max),
                        (target - BAND_HALF_WIDTH_MMHG, target + BAND_HALF_WIDTH_MMHG))
 
@@ -508,7 +425,9 @@ def dead_space_sensitivity(plan: Plan, n: int = 160) -> Sensitivity:
 
 def field_defaults(plan: Plan, library: Library | None = None) -> dict[str, float]:
     """The value each input field took in this plan when left empty (internal units, FIELDS keys)."""
-    sp, lib = _species(plan, library)
+    from ventset.library import load_library
+
+    sp = (library or load_library()).species[plan.resolved.species]
     r, m, v, p, o = plan.resolved, plan.metabolism, plan.ventilation, plan.pressures, plan.oxygen
     out = {
         "lean-mass": r.lean_mass_kg, "body-temperature": r.body_temp_c, "metabolic-rate": m.allometric_rate_w,
