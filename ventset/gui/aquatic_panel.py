@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import pyqtgraph as pg
 from PySide6.QtCore import Qt, QTimer, Signal
-from PySide6.QtGui import QColor, QPen
+from PySide6.QtGui import QColor
 from PySide6.QtWidgets import (
     QComboBox,
     QFrame,
@@ -28,6 +28,7 @@ from ventset.aquatic.irrigation import IrrigationPlan, plan_irrigation, request_
 from ventset.aquatic.report import summary_lines
 from ventset.aquatic.views import content_curve, delivery_curve
 from ventset.errors import InputError
+from ventset.gui.plots import _new_plot_widget, _pen
 from ventset.gui.text import Text
 from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours
 from ventset.model import STANDING_NOTICE
@@ -43,14 +44,6 @@ ENTRIES = (
 DEFAULTS = {"species": "carp_koi", "mass": "2 kg", "water-temperature": "20", "salinity": "0"}
 
 
-def _pen(colour: str, width: float = 2.0, style: Qt.PenStyle = Qt.PenStyle.SolidLine) -> QPen:
-    pen = QPen(QColor(colour))
-    pen.setWidthF(width)
-    pen.setCosmetic(True)
-    pen.setStyle(style)
-    return pen
-
-
 def _plain_label(text: str, parent: QWidget) -> QLabel:
     label = QLabel(text, parent)
     label.setTextFormat(Qt.TextFormat.PlainText)
@@ -58,13 +51,8 @@ def _plain_label(text: str, parent: QWidget) -> QLabel:
 
 
 def _plot(parent: QWidget, x_label: str, y_label: str) -> pg.PlotWidget:
-    w = pg.PlotWidget(parent)
-    w.setMenuEnabled(False)
-    w.setMouseEnabled(x=False, y=False)
-    w.hideButtons()
-    w.getPlotItem().vb.disableAutoRange()
+    w = _new_plot_widget(parent)
     w.setMinimumHeight(w.fontMetrics().height() * 14)
-    w.setFocusPolicy(Qt.FocusPolicy.NoFocus)
     for name, text in (("bottom", x_label), ("left", y_label)):
         ax = w.getAxis(name)
         ax.enableAutoSIPrefix(False)
