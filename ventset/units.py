@@ -66,13 +66,17 @@ UNITS: dict[str, Unit] = {u.name: u for u in (
     Unit("mm", "length", 1e-3), Unit("cm", "length", 1e-2),
     Unit("percent", "fraction", 0.01, shown="%"),
     Unit("s", "time", 1.0), Unit("ms", "time", 1e-3), Unit("min", "time", 60.0), Unit("h", "time", 3600.0),
+    Unit("g/kg", "salinity", 1.0),
+    Unit("mg/L", "concentration", 1.0),
+    Unit("mg/kg/h", "oxygen use per mass", 1.0), Unit("mL/kg/h", "oxygen use per mass (volume)", 1.0),
 )}
 
 # Spellings people type (compared without case and spaces), mapped to the names above.
 _ALIASES = {
     "mmhg": "mmHg", "torr": "torr", "kpa": "kPa", "cmh2o": "cmH2O", "mbar": "mbar", "hpa": "hPa",
     "ml": "mL", "cc": "mL", "l": "L", "ul": "uL", "µl": "uL", "μl": "uL",
-    "ml/min": "mL/min", "l/min": "L/min", "ml/kg": "mL/kg",
+    "ml/min": "mL/min", "l/min": "L/min", "ml/kg": "mL/kg", "g/kg": "g/kg", "mg/l": "mg/L",
+    "mg/kg/h": "mg/kg/h", "ml/kg/h": "mL/kg/h",
     "ml/cmh2o": "mL/cmH2O", "l/cmh2o": "L/cmH2O", "cmh2o/l/s": "cmH2O*s/L", "cmh2o/(l/s)": "cmH2O*s/L",
     "cmh2o*s/l": "cmH2O*s/L", "cmh2o·s/l": "cmH2O*s/L",
     "/min": "1/min", "1/min": "1/min", "bpm": "1/min", "breaths/min": "1/min", "permin": "1/min",
