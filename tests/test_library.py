@@ -22,8 +22,9 @@ def species_doc():
 def test_required_species_present(library):
     assert len(library.species) >= 25
     assert set(REQUIRED) <= set(library.species)
-    assert {s.group.key for s in library.species.values()} == {"placental", "marsupial", "passerine",
-                                                                "non_passerine", "reptile"}
+    # The five original groups stay in use; taxon groups (monotreme, reptile_*) may be added.
+    assert {"placental", "marsupial", "passerine", "non_passerine", "reptile"} <= {
+        s.group.key for s in library.species.values()}
 
 
 def test_every_number_has_a_source(species_doc):

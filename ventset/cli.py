@@ -69,18 +69,31 @@ def _cmd_plan(ns: argparse.Namespace) -> int:
 
 
 def _cmd_species(ns: argparse.Namespace) -> int:
+    """List the species library: key, label, metabolic group, usual VT and rate, mass range (or JSON)."""
     from ventset.library import load_library
 
     lib = load_library()
     if ns.json:
-        print(json.dumps([{"key": s.key, "label": s.label, "group": s.group.key, "mass_kg": [s.mass_kg.min,
-                          s.mass_kg.max]} for s in lib.species.values()], indent=2))
+        print_json([{"key": s.key, "label": s.label, "group": s.group.key, "group_label": s.group.label,
+                     "mass_kg": [s.mass_kg.min, s.mass_kg.max], "aliases": list(s.aliases),
+                     "tidal_volume_ml_kg": [s.tidal_volume_ml_kg.min, s.tidal_volume_ml_kg.max],
+                     "rate_per_min": [s.rate_per_min.min, s.rate_per_min.max],
+                     "body_temperature_c": s.body_temperature_c.start} for s in lib.species.values()])
         return 0
-    print(f"{'key':<22}{'species':<34}{'group':<15}{'VT mL/kg':<11}{'rate /min':<11}mass kg")
-    for s in lib.species.values():
-        vt, f = s.tidal_volume_ml_kg, s.rate_per_min
-        print(f"{s.key:<22}{s.label[:33]:<34}{s.group.key:<15}{f'{vt.min:g}-{vt.max:g}':<11}"
-              f"{f'{f.min:g}-{f.max:g}':<11}{s.mass_kg.min:g}-{s.mass_kg.max:g}")
+    label_w = 40
+
+    def cut(text: str, width: int) -> str:
+        return text if len(text) <= width else text[: width - 1] + "…"
+
+    rows = [(s.key, cut(s.label, label_w), s.group.key, f"{s.tidal_volume_ml_kg.min:g}-{s.tidal_volume_ml_kg.max:g}",
+             f"{s.rate_per_min.min:g}-{s.rate_per_min.max:g}", f"{s.mass_kg.min:g}-{s.mass_kg.max:g}")
+            for s in lib.species.values()]
+    head = ("key", "species", "group", "VT mL/kg", "rate /min", "mass kg")
+    widths = [max(len(r[i]) for r in (head, *rows)) for i in range(len(head))]
+    for r in (head, *rows):
+        print("  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip())
+    print(f"{len(rows)} species in {len({s.group.key for s in lib.species.values()})} metabolic groups; "
+          "rate ranges are for a typical adult and scale with mass where the entry says so.")
     return 0
 
 
