@@ -15,7 +15,7 @@ from ventset.units import parse_quantity
 
 # Modules that add subcommands: each defines register(sub, add_request_options) -> {name: handler},
 # and may define extend_plan(p_plan) (extra `plan` options) and after_plan(ns, request, plan).
-EXTENSIONS: tuple[str, ...] = ("ventset.cli_cases", "ventset.cli_titrate")
+EXTENSIONS: tuple[str, ...] = ("ventset.cli_cases", "ventset.cli_titrate", "ventset.cli_validate")
 
 DEMO_ARGS = ["--species", "cat", "--mass", "4.2 kg", "--name", "Pickle (demo)", "--apparatus", "hme_paediatric",
              "--apparatus", "capnograph_mainstream_adult", "--tube-id", "4 mm", "--tube-length", "5 cm"]
