@@ -72,6 +72,11 @@ def _fixed_ml(p: Plan) -> float:
     return d.anatomical_ml + d.apparatus_ml + d.tube_ml
 
 
+def _assumed_number(p: Plan, name: str) -> float:
+    """A default the plan used, read from its assumptions trail (the plan's own value)."""
+    return float(next(a.value for a in p.assumptions if a.name == name))
+
+
 def _input_value(quantity: str, p: Plan) -> float:
     m, mass = p.metabolism, p.resolved.mass_kg
     vt = p.ventilation.tidal_volume_ml
@@ -81,6 +86,8 @@ def _input_value(quantity: str, p: Plan) -> float:
         "vco2_ml_kg_min": lambda: m.vco2_ml_min / mass,
         "vco2_ml_kg075_min": lambda: m.vco2_ml_min / mass**0.75,
         "rq": lambda: m.rq,
+        "q10": lambda: _assumed_number(p, "Q10"),
+        "mass_exponent": lambda: _assumed_number(p, "Metabolic exponent b"),
         "vd_vt": lambda: p.dead_space.total_ml / vt,
         "alveolar_vd_of_alveolar_vt": lambda: p.dead_space.alveolar_ml / (vt - _fixed_ml(p)),
         "gradient_mmhg": lambda: p.resolved.gradient_mmhg,

@@ -27,6 +27,8 @@ QUANTITIES: dict[str, tuple[str, str, str]] = {
     "vco2_ml_kg_min": ("input", "mL/kg/min", "CO2 output per kg"),
     "vco2_ml_kg075_min": ("input", "mL/kg^0.75/min", "CO2 output per kg^0.75"),
     "rq": ("input", "", "respiratory quotient"),
+    "q10": ("input", "", "temperature coefficient of metabolic rate"),
+    "mass_exponent": ("input", "", "mass exponent b of metabolic rate (K·M^b)"),
     "vd_vt": ("input", "", "physiological dead space / tidal volume"),
     "alveolar_vd_of_alveolar_vt": ("input", "", "alveolar dead space / alveolar tidal volume"),
     "gradient_mmhg": ("input", "mmHg", "PaCO2 − EtCO2"),
