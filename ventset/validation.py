@@ -227,7 +227,7 @@ def summarise(results: Iterable[Result]) -> dict:
 def result_to_dict(r: Result) -> dict:
     """One row of ``ventset validate --json``."""
     o = r.observation
-    out = {
+    out: dict[str, object] = {
         "id": o.id, "species": o.species, "kind": o.kind, "quantity": o.quantity, "unit": o.unit,
         "source": o.source, "seen": o.seen, "published": o.published.as_dict(),
         "predicted": None if r.predicted is None else round(r.predicted, 4), "within": r.within,

@@ -190,7 +190,8 @@ def _check_outcome(row: str, published: Published, c: Conditions) -> None:
     if not has_rate:
         raise _fail(row, "conditions.rate_per_min", "an outcome needs the rate used (rate_per_min or rate_min/max)")
     if c.vt_ml_kg is None and c.pip_cmh2o is None:
-        raise _fail(row, "conditions.vt_ml_kg", "an outcome needs the tidal volume (vt_ml_kg) or the pressure (pip_cmh2o)")
+        raise _fail(row, "conditions.vt_ml_kg",
+                    "an outcome needs the tidal volume (vt_ml_kg) or the pressure (pip_cmh2o)")
     if c.rate_min is not None and not published.is_band:
         raise _fail(row, "published", "a rate range goes with a published band (low/high)")
     if c.rate_min is not None and c.rate_max is not None and c.rate_min > c.rate_max:
