@@ -301,7 +301,7 @@ CASES = [
     ("fresh-gas-order", "apparatus.toml", lambda d: d["fresh_gas"]["non_rebreathing_below_kg"].update(value=200),
      ["[fresh_gas]", "field 'non_rebreathing_below_kg' 200 must be below large_animal_circle_above_kg"]),
     ("dead-space-swallows-breath", "species.toml", lambda d: dog(d)["anatomical_dead_space"].update(coefficient_ml=25),
-     ["species 'dog'", "field 'anatomical_dead_space' gives", "smallest usual tidal volume"]),
+     ["species 'dog'", "field 'anatomical_dead_space' leaves", "smallest usual tidal volume"]),
     ("wrong-version", "species.toml", lambda d: d.update(schema_version=2),
      ["field 'schema_version' must be 1 (got 2)"]),
     ("version-as-text", "planning.toml", lambda d: d.update(schema_version="1"),

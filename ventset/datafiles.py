@@ -92,13 +92,14 @@ def _unique_note_codes(v: dict[str, Any], at: Where) -> None:
 
 
 def _dead_space_below_tidal_volume(v: dict[str, Any], at: Where) -> None:
-    """the anatomical dead space (not intubated) at both ends of mass_kg is below the smallest usual tidal volume"""
+    """the anatomical dead space left after intubation, at both ends of mass_kg, is below the smallest usual
+    tidal volume"""
     ana, vt, mass = v["anatomical_dead_space"], v["tidal_volume_ml_kg"], v["mass_kg"]
     for m in (mass.min, mass.max):
-        vd = ana["coefficient_ml"] * m ** ana["exponent"]
+        vd = ana["coefficient_ml"] * m ** ana["exponent"] * ana["intubated_fraction"]
         if vd >= vt.min * m:
             raise at.at("anatomical_dead_space").fail(
-                f"gives {vd:.3g} mL at {m:g} kg, not below the smallest usual tidal volume {vt.min * m:.3g} mL "
+                f"leaves {vd:.3g} mL after intubation at {m:g} kg, not below the smallest usual tidal volume {vt.min * m:.3g} mL "
                 f"({vt.min:g} mL/kg): no breath in the range would ventilate the alveoli")
 
 

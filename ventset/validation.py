@@ -20,8 +20,7 @@ from dataclasses import dataclass
 from ventset.errors import DataError, InputError
 from ventset.library import Library, Species, load_library
 from ventset.model import Circuit, Patient, Plan, Request, Strategy, Targets
-from ventset.physiology import gas
-from ventset.planner import plan, rate_for_vt
+from ventset.planner import plan
 from ventset.validation_data import Observation, load_validation
 
 OUTCOME_TOLERANCE_MMHG = 8.0
@@ -141,8 +140,9 @@ def _outcome_value(quantity: str, p: Plan) -> float | None:
 def _needed_rate(obs: Observation, p: Plan, target: float) -> float:
     """Rate the model needs at the study's VT to reach ``target`` (an EtCO2 target adds the gradient)."""
     paco2 = target + p.resolved.gradient_mmhg if obs.quantity == "etco2_mmhg" else target
-    va = gas.alveolar_ventilation_ml_min(p.metabolism.vco2_ml_min, paco2, p.resolved.body_temp_c)
-    return rate_for_vt(va, p.ventilation.tidal_volume_ml, _fixed_ml(p), p.resolved.alveolar_dead_space_fraction)
+    s = p.subject
+    assert s is not None
+    return s.rate_for_vt(s.alveolar_ventilation_ml_min(paco2), p.ventilation.tidal_volume_ml)
 
 
 def _outcome_result(obs: Observation, lib: Library) -> Result:
