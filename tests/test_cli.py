@@ -32,7 +32,11 @@ def test_json_has_documented_keys(capsys):
         assert keys <= set(data[section]), section
     assert data["cautions"] and {"severity", "code", "message"} <= set(data["cautions"][0])
     assert data["assumptions"] and {"name", "value", "unit", "source"} <= set(data["assumptions"][0])
-    assert data["dead_space"]["apparatus_ml"] == pytest.approx(12.0)
+    ds = data["dead_space"]
+    assert ds["apparatus_parts_ml"] == pytest.approx(12.0)
+    # no tube entered: the usual tube for 20 kg counts (issue 9), so apparatus = parts + tube
+    assert ds["tube_ml"] > 0
+    assert ds["apparatus_ml"] == pytest.approx(12.0 + ds["tube_ml"])
     assert "licensed veterinarian" in data["standing_notice"]
 
 

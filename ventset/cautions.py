@@ -278,7 +278,7 @@ def body_temperature(x: Context) -> list[Caution]:
     if rng.min <= t <= rng.max:
         return []
     values = dict(body_temp_c=t, lo_c=rng.min, hi_c=rng.max)
-    if x.species.group.key.startswith("reptile"):
+    if x.species.group.ectotherm:
         where = "below" if t < rng.min else "above"
         return [caution("caution", "BODY_TEMPERATURE",
                         "Body temperature {body_temp_c} is {where} the preferred zone {lo_c}–{hi_c}: metabolism, drug "
@@ -365,9 +365,16 @@ def species_notes(x: Context) -> list[Caution]:
 def no_tube_entered(x: Context) -> list[Caution]:
     if x.plan.request.circuit.tube_id_mm is not None:
         return []
+    b = x.plan.basis
+    tid = next((a.value for a in x.plan.assumptions if a.key == "usual_tube_id"), math.nan)
+    length = next((a.value for a in x.plan.assumptions if a.key == "usual_tube_length"), math.nan)
+    if b is None or not b.dead_space.usual_tube:  # pragma: no cover - every plan counts a tube
+        return []
     return [caution("info", "TUBE_NOT_ENTERED",
-                    "No tube size entered: the tube beyond the incisors is not counted as dead space. Enter its "
-                    "internal diameter and length.")]
+                    "No tube size entered: the plan counts the usual tube for {mass_kg} ({tube_mm} internal "
+                    "diameter, {beyond_cm} beyond the incisors, {tube_ml}). Enter the tube actually placed; a "
+                    "longer or narrower tube changes the dead space.", mass_kg=x.plan.resolved.mass_kg,
+                    tube_mm=float(tid), beyond_cm=float(length), tube_ml=x.plan.dead_space.tube_ml)]
 
 
 def custom_species(x: Context) -> list[Caution]:

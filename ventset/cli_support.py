@@ -11,11 +11,11 @@ import sys
 
 from ventset.errors import InputError, one_line
 from ventset.fields import FIELDS, request_from_inputs
-from ventset.model import MODES, STRATEGIES, Request
+from ventset.model import AGES, MODES, STATES, STRATEGIES, Request
 
 # The options that fill the request's text inputs: input key → argparse destination.
 TEXT_OPTIONS = {"species": "species", "name": "name", "custom-species": "custom_species", "mode": "mode",
-                "circuit": "circuit", "strategy": "strategy"}
+                "circuit": "circuit", "strategy": "strategy", "age": "age", "state": "state"}
 
 
 def say(message: str) -> None:
@@ -47,6 +47,11 @@ def add_request_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--strategy", choices=STRATEGIES, default="volume_first",
                    help="volume_first: tidal volume per kg, then rate; least_work: Otis rate, then tidal volume")
     p.add_argument("--circuit", help="non_rebreathing, rebreathing_small_animal, ... (default: by mass)")
+    p.add_argument("--age", choices=AGES,
+                   help="neonate, juvenile or adult: growing animals have their own metabolic level (default: by "
+                        "body mass where the species gives the masses, else adult)")
+    p.add_argument("--state", choices=STATES, default="fasted",
+                   help="ectotherms (reptiles): fasted, fed (recently eaten) or gravid (default fasted)")
     for spec in FIELDS.values():
         p.add_argument(f"--{spec.key}", dest=dest(spec.key), metavar="VALUE",
                        help=f"{spec.help} [{_unit_help(spec.unit)}]".replace("%", "%%"))

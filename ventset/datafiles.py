@@ -79,6 +79,9 @@ GROUP_FIELDS: tuple[Field, ...] = (
                        "Andrews & Pough 1985 about 0.80 in squamates); the allowed range leaves a margin"),
     SourcedNumber("reference_temperature_c", unit="°C", lo=0, hi=45, help="body temperature the K refers to"),
     SourcedNumber("q10", lo=1.0, hi=5.0, help="Q10 for the temperature correction of the metabolic rate"),
+    Flag("ectotherm", required=False, default=False,
+         help="true: body temperature follows the surroundings; the rate is referred to reference_temperature_c "
+              "and corrected by Q10 to the patient's temperature (reptiles)"),
 )
 
 
@@ -95,12 +98,14 @@ def _dead_space_below_tidal_volume(v: dict[str, Any], at: Where) -> None:
     """the anatomical dead space left after intubation, at both ends of mass_kg, is below the smallest usual
     tidal volume"""
     ana, vt, mass = v["anatomical_dead_space"], v["tidal_volume_ml_kg"], v["mass_kg"]
+    per_kg = v.get("airway_dead_space_ml_kg")
     for m in (mass.min, mass.max):
-        vd = ana["coefficient_ml"] * m ** ana["exponent"] * ana["intubated_fraction"]
+        full = per_kg.value * m if per_kg is not None else ana["coefficient_ml"] * m ** ana["exponent"]
+        vd = full * ana["intubated_fraction"]
         if vd >= vt.min * m:
             raise at.at("anatomical_dead_space").fail(
-                f"leaves {vd:.3g} mL after intubation at {m:g} kg, not below the smallest usual tidal volume {vt.min * m:.3g} mL "
-                f"({vt.min:g} mL/kg): no breath in the range would ventilate the alveoli")
+                f"leaves {vd:.3g} mL after intubation at {m:g} kg, not below the smallest usual tidal volume "
+                f"{vt.min * m:.3g} mL ({vt.min:g} mL/kg): no breath in the range would ventilate the alveoli")
 
 
 NOTE = TableList("notes", required=False, default=(), help=(
@@ -162,6 +167,20 @@ SPECIES_FIELDS: tuple[Field, ...] = (
     Choice("default_mode", choices=("volume", "pressure"), help="ventilation mode to plan in"),
     Flag("mechanics_reliable", help="false: pressure predictions are rough (birds, reptiles)"),
     NOTE,
+    SourcedNumber("airway_dead_space_ml_kg", unit="mL/kg", lo=0, hi=30, lo_open=True, required=False, default=None,
+                  help="airway dead space (unintubated) per kg lean mass where it was measured for the species; "
+                       "replaces coefficient_ml·M^exponent of anatomical_dead_space "
+                       "(intubated_fraction still applies)"),
+    SourcedNumber("neonate_metabolic_factor", lo=0.5, hi=4, required=False, default=None,
+                  help="metabolic rate of a neonate of this species as a multiple of the adult allometric rate "
+                       "(--age neonate); without it the age input is refused for the species"),
+    SourcedNumber("juvenile_metabolic_factor", lo=0.5, hi=4, required=False, default=None,
+                  help="metabolic rate of a growing (juvenile) animal as a multiple of the adult allometric rate "
+                       "(--age juvenile)"),
+    SourcedNumber("neonate_below_kg", unit="kg", **limits("mass"), required=False, default=None,
+                  help="with no age entered, a patient lighter than this is planned as a neonate"),
+    SourcedNumber("juvenile_below_kg", unit="kg", **limits("mass"), required=False, default=None,
+                  help="with no age entered, a patient lighter than this (and not a neonate) is planned as juvenile"),
     SourcedNumber("inspiratory_time_s", unit="s", **limits("ti"), required=False, default=None,
                   help="default Ti (otherwise the rule in planning.toml)." + _same_as("ti")),
     Table("rate_mass_scaling", required=False, default=None,
@@ -334,6 +353,24 @@ PLANNING = FileSchema("planning.toml", "planner defaults that are not species da
         SourcedNumber("reservoir_bag_vt_multiple", unit="× VT", lo=1, hi=20,
                       help="reservoir bag as a multiple of the set VT; at least 1, a smaller bag cannot hold a "
                            "breath"),
+        SourcedNumber("fed_metabolic_factor", unit="×", lo=1, hi=50,
+                      help="an ectotherm that has eaten (--state fed): multiple of its fasted metabolic rate"),
+        SourcedNumber("fed_metabolic_factor_highest", unit="×", lo=1, hi=50,
+                      help="the highest published digestive rise (said in the caution)"),
+        SourcedNumber("gravid_metabolic_factor", unit="×", lo=1, hi=50,
+                      help="a gravid ectotherm (--state gravid): multiple of its non-reproductive rate"),
+        SourcedNumber("gravid_metabolic_factor_highest", unit="×", lo=1, hi=50,
+                      help="the highest published rise late in gestation (said in the caution)"),
+        SourcedNumber("placental_neonate_metabolic_factor", unit="×", lo=0.5, hi=4,
+                      help="a neonatal placental mammal without a species value: multiple of the adult rate"),
+        SourcedNumber("placental_juvenile_metabolic_factor", unit="×", lo=0.5, hi=4,
+                      help="a juvenile placental mammal without a species value: multiple of the adult rate"),
+        SourcedNumber("usual_tube_id_mm_at_1kg", unit="mm", lo=0.5, hi=10,
+                      help="usual endotracheal tube internal diameter at 1 kg (ID = a·M^b), used when none is entered"),
+        SourcedNumber("usual_tube_id_exponent", lo=0.2, hi=0.6, help="b in ID = a·M^b"),
+        SourcedNumber("usual_tube_beyond_incisors_cm_at_1kg", unit="cm", lo=0, hi=20,
+                      help="usual length of tube and connector beyond the incisors at 1 kg (L = c·M^d)"),
+        SourcedNumber("usual_tube_beyond_incisors_exponent", lo=0, hi=0.6, help="d in L = c·M^d"),
     )),
 ))
 

@@ -100,11 +100,13 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
 # The inputs that are not numbers, by key: where each goes in a Request, and its text rule (ventset.textpolicy).
 TEXT_INPUTS: dict[str, str] = {"species": "patient.species", "name": "patient.name",
                                "custom-species": "patient.custom_species", "mode": "circuit.mode",
-                               "circuit": "circuit.circuit_type", "strategy": "strategy.name"}
+                               "circuit": "circuit.circuit_type", "strategy": "strategy.name",
+                               "age": "patient.age", "state": "patient.state"}
 TEXT_POLICY = {"species": "species-text", "name": "name", "custom-species": "custom-species", "mode": "choice",
-               "circuit": "choice", "strategy": "choice"}
+               "circuit": "choice", "strategy": "choice", "age": "choice", "state": "choice"}
 INPUT_LABELS = {"species": "Species", "name": "Patient name", "custom-species": "Custom species", "mode": "Mode",
-                "circuit": "Circuit type", "strategy": "Strategy", "apparatus": "Apparatus"}
+                "circuit": "Circuit type", "strategy": "Strategy", "apparatus": "Apparatus", "age": "Age",
+                "state": "Physiological state"}
 PARTS_PATH = "circuit.parts"
 register_labels({"name": "Patient name", "custom-species": "Custom species",
                  **{k: f.label for k, f in FIELDS.items()}})
@@ -218,6 +220,10 @@ def _text_input(key: str, value: object, library) -> str | None:
         return None
     if key == "strategy" and not text:
         return "volume_first"
+    if key == "age" and not text:
+        return None
+    if key == "state" and not text:
+        return "fasted"
     if key == "species" and library is not None:
         sp = library.find_species(text) if text.strip() else None
         if sp is None:

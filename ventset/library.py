@@ -44,6 +44,7 @@ class Group:
     exponent: Sourced
     reference_temperature_c: Sourced
     q10: Sourced
+    ectotherm: bool = False
 
 
 @dataclass(frozen=True)
@@ -80,6 +81,11 @@ class Species:
     notes: tuple[Note, ...]
     inspiratory_time_s: Sourced | None = None
     rate_scaling: tuple[float, float, str] | None = None  # (reference mass kg, exponent, source)
+    airway_dead_space_ml_kg: Sourced | None = None
+    neonate_metabolic_factor: Sourced | None = None
+    juvenile_metabolic_factor: Sourced | None = None
+    neonate_below_kg: Sourced | None = None
+    juvenile_below_kg: Sourced | None = None
 
     def rate_span_for(self, mass_kg: float) -> Span:
         """The usual rate range at this mass: the listed range × (M/M_ref)^b when the entry scales with mass."""
@@ -151,7 +157,7 @@ SPECIES_COMPOUND = ("group", "notes", "paco2_etco2_gradient_mmhg", "resistance_c
 
 def _group(key: str, v: dict[str, Any]) -> Group:
     return Group(key, v["label"], v["metabolic_k_kcal_day"], v["metabolic_exponent"], v["reference_temperature_c"],
-                 v["q10"])
+                 v["q10"], v["ectotherm"])
 
 
 def _species(key: str, v: dict[str, Any], groups: dict[str, Group]) -> Species:

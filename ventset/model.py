@@ -23,6 +23,8 @@ STANDING_NOTICE = (
 )
 
 MODES = ("volume", "pressure")
+AGES = ("adult", "juvenile", "neonate")
+STATES = ("fasted", "fed", "gravid")
 STRATEGIES = ("volume_first", "least_work")
 STRATEGY_LABELS = {
     "volume_first": "Tidal volume per kg first, then rate",
@@ -46,6 +48,8 @@ class Patient:
     name: str = ""
     # A species not in the library, planned with the values of ``species`` (its base) unless entered.
     custom_species: str = ""
+    age: str | None = None    # "neonate", "juvenile" or "adult" (AGES); None: by the species' mass thresholds
+    state: str = "fasted"     # ectotherms: "fasted", "fed" or "gravid" (STATES)
 
 
 @dataclass(frozen=True)

@@ -25,8 +25,8 @@ from PySide6.QtWidgets import (
 from ventset.aquatic.data import AquaticData, aquatic_data
 from ventset.aquatic.inputs import AQUATIC_FIELDS, key_of_label
 from ventset.aquatic.irrigation import IrrigationPlan, plan_irrigation, request_from_texts
-from ventset.aquatic.report import summary_lines
 from ventset.aquatic.plotdata import content_curve, delivery_curve
+from ventset.aquatic.report import summary_lines
 from ventset.errors import InputError
 from ventset.gui.plots import _new_plot_widget, _pen
 from ventset.gui.text import Text

@@ -6,6 +6,7 @@ import math
 from dataclasses import dataclass
 
 from ventset.errors import InputError
+from ventset.library import Library, Species
 from ventset.model import ApparatusPart, Assumption, Circuit, Patient, Targets
 from ventset.physiology import deadspace, mechanics
 from ventset.stages.inputs import Inputs
@@ -23,6 +24,7 @@ class AirwayDeadSpace:
     alveolar_fraction: float
     parts: tuple[ApparatusPart, ...]
     assumptions: tuple[Assumption, ...]
+    usual_tube: bool = False  # no tube entered: the usual tube for the mass was counted
 
     @property
     def fixed_ml(self) -> float:
@@ -30,22 +32,50 @@ class AirwayDeadSpace:
         return self.anatomical_ml + self.apparatus_ml + self.tube_ml
 
 
-def dead_space_stage(p: Patient, c: Circuit, inp: Inputs) -> AirwayDeadSpace:
-    """Stahl-type anatomical dead space × the share kept after intubation, tube π(ID/2)²L, parts, f_alv."""
-    sp, lean = inp.species, inp.lean_mass_kg
+def _anatomical(sp: Species, lean: float) -> tuple[float, Assumption]:
+    """Unintubated airway dead space (mL): the species' measured value per kg, else coefficient·M^exponent."""
+    if sp.airway_dead_space_ml_kg is not None:
+        per_kg = sp.airway_dead_space_ml_kg
+        full = per_kg.value * lean
+        return full, note("anatomical_dead_space", "Airway dead space (unintubated)", full, "mL",
+                          f"{fmt(per_kg.value)} mL/kg: {per_kg.source}")
     full = deadspace.anatomical_dead_space_ml(lean, sp.anatomical_coefficient_ml, sp.anatomical_exponent)
-    notes = [
-        note("anatomical_dead_space", "Anatomical dead space (unintubated)", full, "mL",
-             f"{sp.anatomical_coefficient_ml}·M^{sp.anatomical_exponent}: {sp.anatomical_source}"),
-        note("intubated_share", "Share of anatomical dead space kept after intubation", sp.intubated_fraction, "",
-             sp.anatomical_source),
-    ]
+    return full, note("anatomical_dead_space", "Anatomical dead space (unintubated)", full, "mL",
+                      f"{sp.anatomical_coefficient_ml}·M^{sp.anatomical_exponent}: {sp.anatomical_source}")
+
+
+def usual_tube(mass_kg: float, lib: Library) -> tuple[float, float]:
+    """The usual tube for a patient of this mass: internal diameter (mm) and length beyond the incisors (cm)."""
+    d = lib.planning
+    return (d["usual_tube_id_mm_at_1kg"].value * mass_kg ** d["usual_tube_id_exponent"].value,
+            d["usual_tube_beyond_incisors_cm_at_1kg"].value * mass_kg ** d["usual_tube_beyond_incisors_exponent"].value)
+
+
+def _tube(c: Circuit, mass_kg: float, lib: Library) -> tuple[float, bool, tuple[Assumption, ...]]:
+    """Tube volume beyond the incisors (mL), whether it is the usual tube (none entered), and its assumptions."""
     if (c.tube_id_mm is None) != (c.tube_length_cm is None):
         missing = "tube-length" if c.tube_length_cm is None else "tube-id"
         raise InputError(missing, "", "enter both tube internal diameter and length beyond the incisors, or neither")
-    tube = 0.0
     if c.tube_id_mm is not None and c.tube_length_cm is not None:
-        tube = deadspace.tube_volume_ml(c.tube_id_mm, c.tube_length_cm)
+        return deadspace.tube_volume_ml(c.tube_id_mm, c.tube_length_cm), False, ()
+    tid, length = usual_tube(mass_kg, lib)
+    d = lib.planning
+    return deadspace.tube_volume_ml(tid, length), True, (
+        note("usual_tube_id", "Tube internal diameter (none entered: the usual for the mass)", tid, "mm",
+             d["usual_tube_id_exponent"].source),
+        note("usual_tube_length", "Tube beyond the incisors (none entered: the usual)", length, "cm",
+             d["usual_tube_beyond_incisors_exponent"].source))
+
+
+def dead_space_stage(p: Patient, c: Circuit, inp: Inputs, lib: Library) -> AirwayDeadSpace:
+    """Airway dead space × the share kept after intubation, tube π(ID/2)²L (the usual one if none is entered),
+    parts, and the alveolar fraction of VT."""
+    sp, lean = inp.species, inp.lean_mass_kg
+    full, first = _anatomical(sp, lean)
+    notes = [first, note("intubated_share", "Share of airway dead space kept after intubation", sp.intubated_fraction,
+                         "", sp.anatomical_source)]
+    tube, usual, tube_notes = _tube(c, inp.mass_kg, lib)
+    notes += tube_notes
     for part in c.parts:
         if not math.isfinite(part.volume_ml) or part.volume_ml < 0:
             raise InputError("apparatus", part.volume_ml, "volume must be 0 mL or more",
@@ -56,7 +86,7 @@ def dead_space_stage(p: Patient, c: Circuit, inp: Inputs) -> AirwayDeadSpace:
         notes.append(note("alveolar_fraction", "Alveolar dead-space fraction", f_alv, "of VT",
                           sp.alveolar_dead_space_fraction.source))
     return AirwayDeadSpace(full * sp.intubated_fraction, sum(x.volume_ml for x in c.parts), tube, f_alv, c.parts,
-                           tuple(notes))
+                           tuple(notes), usual)
 
 
 @dataclass(frozen=True)

@@ -10,7 +10,7 @@ from ventset.model import Assumption, Metabolism, Request
 from ventset.stages.airway import AirwayDeadSpace, Mechanics, dead_space_stage, mechanics_stage
 from ventset.stages.circuit import Atmosphere, BreathingSystem, atmosphere_stage, circuit_stage
 from ventset.stages.inputs import Inputs, resolve_inputs
-from ventset.stages.metabolic import Co2Target, co2_target_stage, metabolism_stage
+from ventset.stages.metabolic import Co2Target, Growth, co2_target_stage, metabolism_stage
 from ventset.stages.timing import timing_rule
 
 
@@ -21,6 +21,7 @@ class Basis:
     request: Request
     inputs: Inputs
     metabolism: Metabolism
+    growth: Growth
     target: Co2Target
     dead_space: AirwayDeadSpace
     mechanics: Mechanics
@@ -47,12 +48,12 @@ def resolve_basis(request: Request, library: Library) -> Basis:
     """Run the stages up to the choice of settings; raises InputError naming the field."""
     p, c, t = request.patient, request.circuit, request.targets
     inputs = resolve_inputs(request, library)
-    met, met_notes = metabolism_stage(p, inputs)
+    met, growth, met_notes = metabolism_stage(p, inputs, library)
     target = co2_target_stage(t, inputs)
-    dead = dead_space_stage(p, c, inputs)
+    dead = dead_space_stage(p, c, inputs, library)
     mech = mechanics_stage(p, t, inputs)
     system = circuit_stage(c, inputs.mass_kg, library)
     atmosphere = atmosphere_stage(t, inputs.body_temp_c, library)
     rule, ti_source = timing_rule(t, inputs.species, inputs.lean_mass_kg, library)
     notes = (*inputs.assumptions, *met_notes, *target.assumptions, *dead.assumptions, *mech.assumptions)
-    return Basis(request, inputs, met, target, dead, mech, system, atmosphere, rule, ti_source, notes)
+    return Basis(request, inputs, met, growth, target, dead, mech, system, atmosphere, rule, ti_source, notes)

@@ -5,25 +5,79 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ventset.errors import InputError
-from ventset.model import Assumption, Metabolism, Patient, Targets
+from ventset.library import Library
+from ventset.model import AGES, STATES, Assumption, Metabolism, Patient, Targets
 from ventset.physiology import gas, metabolism
 from ventset.stages.inputs import Inputs
 from ventset.stages.trail import note
 from ventset.units import check_range, fmt
 
 
-def metabolism_stage(p: Patient, inp: Inputs) -> tuple[Metabolism, tuple[Assumption, ...]]:
-    """Metabolic rate (W), VO2 and VCO2 (mL/min STPD): entered, or K·M^b × Q10 × anaesthesia factor."""
-    sp, g = inp.species, inp.species.group
+@dataclass(frozen=True)
+class Growth:
+    """The age the plan used and its factor on the adult allometric rate."""
+
+    age: str
+    factor: float
+    source: str
+    estimated: bool  # a group default, not a value measured in the species
+
+
+def age_stage(p: Patient, inp: Inputs, lib: Library) -> tuple[Growth, tuple[Assumption, ...]]:
+    """The patient's age (entered, or by the species' mass thresholds) and its metabolic factor."""
+    sp = inp.species
     notes: list[Assumption] = []
-    ectotherm = g.key == "reptile"
-    t_ref = g.reference_temperature_c.value if ectotherm else sp.body_temperature_c.start
+    age = p.age
+    if age is None:
+        below = (("neonate", sp.neonate_below_kg), ("juvenile", sp.juvenile_below_kg))
+        age = next((a for a, lim in below if lim is not None and inp.mass_kg < lim.value), "adult")
+        if age != "adult":
+            lim = dict(below)[age]
+            assert lim is not None
+            notes.append(note("age", "Age", age, "", f"by body mass: under {fmt(lim.value)} kg ({lim.source})"))
+    if age not in AGES:
+        raise InputError("age", age, f"must be one of {', '.join(AGES)}")
+    if age == "adult":
+        return Growth("adult", 1.0, "", False), tuple(notes)
+    own = sp.neonate_metabolic_factor if age == "neonate" else sp.juvenile_metabolic_factor
+    if own is not None:
+        growth = Growth(age, own.value, own.source, False)
+    elif sp.group.key == "placental":
+        d = lib.planning[f"placental_{age}_metabolic_factor"]
+        growth = Growth(age, d.value, d.source, True)
+    else:
+        raise InputError("age", age, f"no published metabolic level for a {age} {sp.group.label.lower()}; plan it as "
+                                     "an adult and enter a measured metabolic rate if known")
+    notes.append(note("age_factor", f"Metabolic level of a {age}", growth.factor, "× adult", growth.source))
+    return growth, tuple(notes)
+
+
+def state_factor(p: Patient, inp: Inputs, lib: Library) -> tuple[float, tuple[Assumption, ...]]:
+    """An ectotherm's physiological state (fasted, recently fed, gravid) as a factor on its standard rate."""
+    if p.state not in STATES:
+        raise InputError("state", p.state, f"must be one of {', '.join(STATES)}")
+    if p.state == "fasted":
+        return 1.0, ()
+    if not inp.species.group.ectotherm:
+        raise InputError("state", p.state, "applies to reptiles; for a pregnant mammal choose the pregnancy "
+                                           "situation")
+    d = lib.planning[f"{p.state}_metabolic_factor"]
+    return d.value, (note("state_factor", f"Metabolic rate when {p.state}", d.value, "× fasted", d.source),)
+
+
+def metabolism_stage(p: Patient, inp: Inputs, lib: Library) -> tuple[Metabolism, Growth, tuple[Assumption, ...]]:
+    """Metabolic rate (W), VO2 and VCO2 (mL/min STPD): entered, or K·M^b × Q10 × anaesthesia × age × state."""
+    sp, g = inp.species, inp.species.group
+    growth, notes_age = age_stage(p, inp, lib)
+    state, notes_state = state_factor(p, inp, lib)
+    notes: list[Assumption] = [*notes_age, *notes_state]
+    t_ref = g.reference_temperature_c.value if g.ectotherm else sp.body_temperature_c.start
     rq = p.rq if p.rq is not None else sp.rq.value
     if p.rq is None:
         notes.append(note("rq", "Respiratory quotient", rq, "", sp.rq.source))
     basal_kcal = metabolism.allometric_rate_kcal_day(inp.lean_mass_kg, g.k_kcal_day.value, g.exponent.value)
     allometric_w = (metabolism.kcal_day_to_w(basal_kcal) * metabolism.q10_factor(inp.body_temp_c, t_ref, g.q10.value)
-                    * sp.anaesthesia_factor.value)
+                    * sp.anaesthesia_factor.value * growth.factor * state)
     if p.metabolic_rate_w is None:
         power_w = allometric_w
         notes += [
@@ -31,17 +85,18 @@ def metabolism_stage(p: Patient, inp: Inputs) -> tuple[Metabolism, tuple[Assumpt
                  g.k_kcal_day.source),
             note("metabolic_exponent", "Metabolic exponent b", g.exponent.value, "", g.exponent.source),
             note("reference_temperature", "Temperature the rate refers to", t_ref, "°C",
-                 g.reference_temperature_c.source if ectotherm else sp.body_temperature_c.source),
+                 g.reference_temperature_c.source if g.ectotherm else sp.body_temperature_c.source),
             note("q10", "Q10", g.q10.value, "", g.q10.source),
-            note("anaesthesia_factor", "Anaesthesia factor on metabolic rate", sp.anaesthesia_factor.value, "",
-                 sp.anaesthesia_factor.source),
+            note("anaesthesia_factor", "Metabolic level under anaesthesia (× basal)", sp.anaesthesia_factor.value,
+                 "", sp.anaesthesia_factor.source),
         ]
     else:
         power_w = p.metabolic_rate_w
     if power_w <= 0:
         raise InputError("metabolic-rate", power_w, "must be above 0 W")
     vo2 = metabolism.vo2_ml_min(power_w, rq)
-    return Metabolism(power_w, allometric_w, vo2, rq * vo2, rq, p.metabolic_rate_w is not None), tuple(notes)
+    return (Metabolism(power_w, allometric_w, vo2, rq * vo2, rq, p.metabolic_rate_w is not None), growth,
+            tuple(notes))
 
 
 @dataclass(frozen=True)
