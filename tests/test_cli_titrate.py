@@ -95,9 +95,9 @@ def test_deadspace_json(capsys):
     assert d["bohr_vd_vt"] == pytest.approx(0.30)
     v = d["volumes"]
     assert v["bohr_ml"] == pytest.approx(60.0) and v["enghoff_ml"] == pytest.approx(75.556, abs=1e-3)
-    # Anatomical: Stahl 2.76·20^0.96 = 48.97 mL, half kept after intubation (species.toml).
-    assert v["anatomical_ml"] == pytest.approx(24.48, abs=0.01)
-    assert v["alveolar_ml"] == pytest.approx(60 - 10 - 24.483, abs=0.01)
+    # Anatomical: Stahl 2.76·20^0.96 = 48.97 mL, 0.8 kept after intubation (species.toml).
+    assert v["anatomical_ml"] == pytest.approx(39.17, abs=0.01)
+    assert v["alveolar_ml"] == pytest.approx(60 - 10 - 39.173, abs=0.01)
     assert "licensed veterinarian" in d["standing_notice"]
 
 

@@ -25,12 +25,13 @@ def test_dog_plan_matches_hand_calculation(library):
     assert p.metabolism.vo2_ml_min == pytest.approx(80.9, abs=0.2)
     assert p.metabolism.vco2_ml_min == pytest.approx(64.7, abs=0.2)
     assert p.ventilation.alveolar_ml_min == pytest.approx(1403, abs=3)
-    # Dead space: Stahl 2.76·20^0.96 = 48.9 mL, half kept after intubation; tube π·0.4²·8 = 4.02 mL.
-    assert p.dead_space.anatomical_ml == pytest.approx(24.45, abs=0.1)
+    # Dead space: Stahl 2.76·20^0.96 = 48.97 mL, 0.8 kept after intubation (species.toml, PubMed 3083738);
+    # tube π·0.4²·8 = 4.02 mL.
+    assert p.dead_space.anatomical_ml == pytest.approx(39.17, abs=0.01)
     assert p.dead_space.tube_ml == pytest.approx(4.02, abs=0.01)
     # 10 mL/kg start → 200 mL; rate = VA/(VT·0.9 − VD_fixed).
     assert p.ventilation.tidal_volume_ml == pytest.approx(200)
-    assert p.ventilation.rate_per_min == pytest.approx(1403 / (180 - 28.47), rel=2e-3)
+    assert p.ventilation.rate_per_min == pytest.approx(1403 / (180 - 43.19), rel=2e-3)
     assert p.ventilation.target_reached
     assert p.ventilation.expected_paco2_mmhg == pytest.approx(40, abs=1e-6)
     # Plateau = 200/(1.3·20) + 5 (equation of motion).
@@ -80,10 +81,13 @@ def test_least_work_strategy_uses_otis_rate(library):
     p = plan(dog(strategy=Strategy("least_work")), library)
     otis = next(a for a in p.assumptions if a.name.startswith("Rate of least work"))
     sp = library.species["dog"]
-    # Otis for this dog: VA' = 1.56 L/min, VD' = 31.6 mL, RC 0.21 s → about 26 /min, above the dog's
-    # usual maximum, so the solver must move along the target line and say so.
-    assert otis.value == pytest.approx(26, abs=1.5)
+    # Otis, Fenn & Rahn 1950 by hand for this dog: VA' = 1.404/0.9 = 1.560 L/min, VD' = 43.19/0.9 = 48.0 mL,
+    # RC 0.2108 s, a = 2π²/60: f = (√(1 + 2a·RC·VA'/VD') − 1)/(a·RC) = 19.4/min; there the tidal volume
+    # would be 1404/19.4/0.9 + 48 = 128 mL (6.4 mL/kg), below the dog's 8 mL/kg, so the solver must move
+    # along the target line and say so.
+    assert otis.value == pytest.approx(19.42, abs=0.05)
     assert sp.rate_per_min.min <= p.ventilation.rate_per_min <= sp.rate_per_min.max
+    assert p.ventilation.tidal_volume_ml == pytest.approx(sp.tidal_volume_ml_kg.min * 20)
     assert p.limits.binding and any(c.code == "LIMIT_BINDING" for c in p.cautions)
     assert p.ventilation.target_reached
 

@@ -65,21 +65,21 @@ def test_fixed_rate_tidal_volume_follows_the_dead_space_relation(library):
                   Targets(paco2_mmhg=40.0))
     a = adjust(req, Measurement(0, 200.0, 12.0, paco2_mmhg=44.0), "tidal_volume", library)
     vd = a.dead_space.fixed_ml
-    assert vd == pytest.approx(24.483 + 4.021, abs=0.01)  # Stahl 2.76·20^0.96 / 2 + π·0.4²·8 (hand)
+    assert vd == pytest.approx(39.173 + 4.021, abs=0.01)  # Stahl 2.76·20^0.96 × 0.8 + π·0.4²·8 (hand)
     assert a.proposal.rate_per_min == pytest.approx(12.0)
     assert a.proposal.tidal_volume_ml == pytest.approx(vd + (200 - vd) * 44 / 40, rel=1e-9)
 
 
 def test_measured_co2_output_by_hand(library):
-    # Hand calculation (alveolar ventilation equation, K(38.5 °C) = 867.121): dead space fixed part 28.504 mL,
-    # f_alv 0.10; VA = 10·(200·0.9 − 28.504) = 1514.96 mL/min; VCO2 = VA·55/867.121 = 96.09 mL/min;
-    # VA needed for 40 mmHg = 1514.96·55/40 = 2083.1 mL/min.
+    # Hand calculation (alveolar ventilation equation, K(38.5 °C) = 867.121): dead space fixed part 43.194 mL
+    # (Stahl 2.76·20^0.96 × 0.8 + tube π·0.4²·8), f_alv 0.10; VA = 10·(200·0.9 − 43.194) = 1368.06 mL/min;
+    # VCO2 = VA·55/867.121 = 86.77 mL/min; VA needed for 40 mmHg = 1368.06·55/40 = 1881.1 mL/min.
     a = adjust(dog(paco2_mmhg=40.0), Measurement(0, 200.0, 10.0, paco2_mmhg=55.0), "rate", library)
-    assert a.in_use_alveolar_ml_min == pytest.approx(1514.96, abs=0.05)
-    assert a.vco2_ml_min == pytest.approx(1514.96 * 55 / K_38_5, abs=0.01)
-    assert a.vco2_ml_min == pytest.approx(96.09, abs=0.01)
-    assert a.needed_alveolar_ml_min == pytest.approx(2083.1, abs=0.1)
-    assert a.dead_space.total_ml == pytest.approx(28.504 + 20.0, abs=0.01)
+    assert a.in_use_alveolar_ml_min == pytest.approx(1368.06, abs=0.05)
+    assert a.vco2_ml_min == pytest.approx(1368.06 * 55 / K_38_5, abs=0.01)
+    assert a.vco2_ml_min == pytest.approx(86.77, abs=0.01)
+    assert a.needed_alveolar_ml_min == pytest.approx(1881.1, abs=0.1)
+    assert a.dead_space.total_ml == pytest.approx(43.194 + 20.0, abs=0.01)
 
 
 def test_etco2_plus_gradient_stands_in_for_paco2(library):
@@ -144,7 +144,7 @@ def test_rate_above_species_range_moves_tidal_volume(library):
     # Dog rate range 8–20/min (species.toml): 20 × 60/40 would be 30/min, so VT rises on the same line.
     a = adjust(dog(paco2_mmhg=40.0), Measurement(0, 200.0, 20.0, paco2_mmhg=60.0), "rate", library)
     assert a.proposal.rate_per_min == pytest.approx(20.0)
-    assert a.proposal.tidal_volume_ml == pytest.approx((20 * 151.496 * 1.5 / 20 + 28.504) / 0.9, abs=0.05)
+    assert a.proposal.tidal_volume_ml == pytest.approx((20 * 136.806 * 1.5 / 20 + 43.194) / 0.9, abs=0.05)
     assert "rate_max" in a.proposal.binding
     assert a.proposal.expected_paco2_mmhg == pytest.approx(40.0, abs=1e-6)
     assert "PROPOSAL_LIMITED" in codes(a)

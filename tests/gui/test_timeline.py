@@ -135,10 +135,10 @@ def test_in_the_window_the_plan_follows_what_is_set(make_window):
     settle(window)
     req, plan = window.controller.request, window.controller.plan
     assert req.strategy.rate_per_min == pytest.approx(10 * 46 / 40)
-    # Metabolic rate from the measured CO2 output, by hand: VA = 10·(200·0.9 − 28.504) = 1515 mL/min;
-    # VCO2 = 1515·46/867.12 = 80.37 mL/min (alveolar ventilation equation); VO2 = VCO2/0.8;
-    # W = VO2·(3.941 + 1.106·0.8)·4.184/60 = 33.8 W (Weir 1949).
-    vco2 = 10 * (200 * 0.9 - 28.504) * 46 / 867.121
+    # Metabolic rate from the measured CO2 output, by hand: VA = 10·(200·0.9 − 43.194) = 1368 mL/min;
+    # VCO2 = 1368·46/867.12 = 72.58 mL/min (alveolar ventilation equation); VO2 = VCO2/0.8;
+    # W = VO2·(3.941 + 1.106·0.8)·4.184/60 = 30.5 W (Weir 1949).
+    vco2 = 10 * (200 * 0.9 - 43.194) * 46 / 867.121
     assert req.patient.metabolic_rate_w == pytest.approx(vco2 / 0.8 * (3.941 + 1.106 * 0.8) * 4.184 / 60, rel=1e-4)
     # The window's plan now shows the settings that were set (measured CO2 output, same target).
     assert plan.ventilation.rate_per_min == pytest.approx(11.5)
