@@ -8,6 +8,7 @@ triggered them by unit suffix (``{pao2_mmhg}``), so they are shown in the reader
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Callable
 from dataclasses import dataclass, replace
 
@@ -377,6 +378,36 @@ def no_tube_entered(x: Context) -> list[Caution]:
                     tube_mm=float(tid), beyond_cm=float(length), tube_ml=x.plan.dead_space.tube_ml)]
 
 
+_YEAR = re.compile(r"\b(1[89]|20)\d\d\b")
+# The species inputs that set the ventilation, with the words the caution names them by.
+_VENTILATION_INPUTS: tuple[tuple[str, Callable[[Species], str]], ...] = (
+    ("the metabolic level under anaesthesia", lambda sp: sp.anaesthesia_factor.source),
+    ("the airway dead space", lambda sp: sp.airway_dead_space_ml_kg.source if sp.airway_dead_space_ml_kg
+     else sp.anatomical_source),
+    ("the alveolar dead space", lambda sp: sp.alveolar_dead_space_fraction.source),
+    ("the compliance", lambda sp: sp.compliance_ml_cmh2o_kg.source),
+)
+
+
+def _from_memory_only(source: str) -> bool:
+    """A source that says "from memory" and cites no dated publication."""
+    return "from memory" in source.lower() and not _YEAR.search(source)
+
+
+def thin_data(x: Context) -> list[Caution]:
+    """Say so when several of the inputs that set the ventilation rest on no published measurement."""
+    if x.plan.request.patient.custom_species.strip():
+        return []  # CUSTOM_SPECIES already says every value is borrowed
+    thin = [words for words, source in _VENTILATION_INPUTS if _from_memory_only(source(x.species))]
+    if len(thin) < x.threshold["thin_data_items"]:
+        return []
+    return [caution("caution", "THIN_DATA",
+                    "Data for {species} are thin: {what} rest on no published measurement in this species. Expect "
+                    "the first PaCO2 to differ from the plan: watch EtCO2 and chest movement from the first breaths "
+                    "and check an arterial blood gas early.",
+                    {"species": x.species.label, "what": ", ".join(thin[:-1]) + " and " + thin[-1]})]
+
+
 def custom_species(x: Context) -> list[Caution]:
     name = x.plan.request.patient.custom_species.strip()
     if not name:
@@ -393,7 +424,7 @@ RULES: tuple[Callable[[Context], list[Caution]], ...] = (
     short_expiration, driving_pressure, compressible_volume, outside_species_range, limit_moved_the_plan,
     oxygenation, etco2_floor, body_temperature, metabolic_plausibility, peep_high, gradient_unreliable,
     small_patient_capnography, short_inspiration_pressure_mode, mechanics_rough, no_tube_entered, custom_species,
-    species_notes,
+    thin_data, species_notes,
 )
 
 

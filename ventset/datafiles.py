@@ -120,6 +120,9 @@ NOTE = TableList("notes", required=False, default=(), help=(
 SPECIES_FIELDS: tuple[Field, ...] = (
     Text("label", help="name shown to the user (also searched)"),
     TextList("aliases", required=False, default=(), help="other names for type-to-search"),
+    TextList("young_aliases", required=False, default=(), help=(
+        "names that choose the species and a young age together (e.g. puppy): neonate below neonate_below_kg, "
+        "else juvenile; an age entered still wins")),
     Text("group", pattern=LOWER_SNAKE, help="key of a [groups.<key>] table in this file"),
     SpanField("mass_kg", unit="kg", start_key=None, **limits("mass"),
               help="plausible body mass for the mass field (no start)." + _same_as("mass")),
@@ -207,7 +210,8 @@ def _unique_names(v: dict[str, Any], at: Where) -> None:
     """a label or alias names one species only (search finds it by either)"""
     seen: dict[str, str] = {}
     for key, sp in v["species"].items():
-        for field, names in (("label", (sp["label"],)), ("aliases", sp["aliases"])):
+        for field, names in (("label", (sp["label"],)), ("aliases", sp["aliases"]),
+                             ("young_aliases", sp.get("young_aliases", ()))):
             for name in names:
                 folded = name.strip().lower()
                 if seen.setdefault(folded, key) != key:
@@ -335,6 +339,10 @@ CAUTIONS = FileSchema("cautions.toml", "thresholds of the caution rules", doc=(
                       help="an expected or measured PaCO2 above this is a danger (planner and titration)"),
         SourcedNumber("paco2_danger_low_mmhg", **_PACO2,
                       help="an expected PaCO2 below this is a danger (severe hypocapnia)"),
+        SourcedNumber("thin_data_items", lo=1, hi=4,
+                      help="of the four species inputs the expected PaCO2 and pressures rest on (metabolic level, "
+                           "airway and alveolar dead space, compliance), this many or more known only from memory "
+                           "give the THIN_DATA caution"),
     ), checks=(_below("apparatus_share_caution", "apparatus_share_danger"),
                _below("expiration_tau_danger", "expiration_tau_caution"),
                _below("pao2_danger_mmhg", "pao2_caution_mmhg"),

@@ -7,7 +7,7 @@ is left to the cautions. No Qt here: the GUI picks widgets from ``kind``.
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from ventset.errors import InputError, register_labels
 from ventset.model import ApparatusPart, Request, request_from_dict
@@ -209,7 +209,18 @@ def request_from_inputs(values: Mapping[str, object], parts: Sequence[ApparatusP
     put(PARTS_PATH, [{"name": p.name, "volume_ml": p.volume_ml, "source": p.source} for p in parts])
     if errors:
         return None, errors
-    return request_from_dict(data), []
+    request = request_from_dict(data)
+    young = _age_named(values, request.patient.mass_kg, library)
+    return (replace(request, patient=replace(request.patient, age=young)) if young else request), []
+
+
+def _age_named(values: dict[str, object], mass_kg: float, library) -> str | None:
+    """The age a young alias typed as the species chooses (puppy → juvenile) when no age is entered."""
+    typed, age = values.get("species"), values.get("age")
+    if library is None or not isinstance(typed, str) or (isinstance(age, str) and age.strip()):
+        return None
+    sp = library.find_species(typed) if typed.strip() else None
+    return sp.age_named(typed, mass_kg) if sp is not None else None
 
 
 def _text_input(key: str, value: object, library) -> str | None:

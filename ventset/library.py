@@ -86,6 +86,7 @@ class Species:
     juvenile_metabolic_factor: Sourced | None = None
     neonate_below_kg: Sourced | None = None
     juvenile_below_kg: Sourced | None = None
+    young_aliases: tuple[str, ...] = ()
 
     def rate_span_for(self, mass_kg: float) -> Span:
         """The usual rate range at this mass: the listed range × (M/M_ref)^b when the entry scales with mass."""
@@ -97,10 +98,19 @@ class Species:
         return Span(r.min * k, r.max * k, r.start * k,
                     f"{r.source}; at {mass_kg:.3g} kg scaled by (M/{ref:g} kg)^{b:g}: {source}")
 
+    def age_named(self, text: str, mass_kg: float) -> str | None:
+        """The age a young alias (puppy, calf, ...) stands for: neonate below the species' neonate mass, else
+        juvenile; None when ``text`` is not a young alias."""
+        t = text.strip().lower()
+        if not any(t == a.lower() for a in self.young_aliases):
+            return None
+        newborn = self.neonate_below_kg is not None and mass_kg < self.neonate_below_kg.value
+        return "neonate" if newborn else "juvenile"
+
     def matches(self, text: str) -> bool:
         """True if ``text`` (case-insensitive) occurs in the key, label or an alias."""
         t = text.strip().lower()
-        return any(t in s.lower() for s in (self.key, self.label, *self.aliases))
+        return any(t in s.lower() for s in (self.key, self.label, *self.aliases, *self.young_aliases))
 
 
 @dataclass(frozen=True)
@@ -143,7 +153,7 @@ class Library:
             return self.species[t]
         plain = text.strip().lower()
         for sp in self.species.values():
-            if plain in (sp.label.lower(), *(a.lower() for a in sp.aliases)):
+            if plain in (sp.label.lower(), *(a.lower() for a in (*sp.aliases, *sp.young_aliases))):
                 return sp
         hits = [sp for sp in self.species.values() if sp.matches(plain)]
         return hits[0] if len(hits) == 1 else None

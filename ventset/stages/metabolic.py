@@ -28,6 +28,8 @@ def age_stage(p: Patient, inp: Inputs, lib: Library) -> tuple[Growth, tuple[Assu
     sp = inp.species
     notes: list[Assumption] = []
     age = p.age
+    if age is None and (age := sp.age_named(p.species, inp.mass_kg)) is not None:
+        notes.append(note("age", "Age", age, "", f"by the name entered: '{p.species.strip()}'"))
     if age is None:
         below = (("neonate", sp.neonate_below_kg), ("juvenile", sp.juvenile_below_kg))
         age = next((a for a, lim in below if lim is not None and inp.mass_kg < lim.value), "adult")
