@@ -174,8 +174,8 @@ def test_validate_unknown_species_is_one_line(capsys):
     assert err.count("\n") == 1 and "--species" in err
 
 
-@pytest.mark.xfail(strict=True, reason="calibration pending (issue 9 item 3); today 5 of 15 outcomes within tolerance "
-                                       "and 16 inputs outside tolerance with no stated reason")
+@pytest.mark.xfail(strict=True, reason="after calibration 9 of 15 outcomes within tolerance (was 5) and 7 inputs "
+                                       "outside tolerance with no stated reason (was 16); see docs/validation.md")
 def test_issue9_acceptance(results):
     s = summarise(results)
     assert s["outcome_fraction_within"] >= 0.80
