@@ -46,6 +46,8 @@ def test_alveolar_ventilation_identity_when_target_reached(req):
                                                       rel=1e-9)
     if v.target_reached:
         assert abs(v.expected_paco2_mmhg - v.target_paco2_mmhg) < 1.0
+    else:  # a plan that misses its target says so, with a danger
+        assert {"TARGET_UNREACHABLE", "TARGET_BELOW_LIMITS", "VT_NOT_ABOVE_DEAD_SPACE", "SETTINGS_FIXED"} & {c.code for c in p.cautions}
 
 
 @given(requests(), st.floats(0.01, 50))
@@ -57,11 +59,18 @@ def test_more_apparatus_dead_space_never_lowers_minute_volume(req, extra):
     assert p2.ventilation.minute_ml_min >= p1.ventilation.minute_ml_min * (1 - 1e-12)
 
 
+def test_alveolar_ventilation_matches_a_worked_example():
+    # West, Respiratory Physiology (from memory): VCO2 200 mL/min STPD at PaCO2 40 mmHg and 37 °C needs
+    # VA = 200 · 0.863 / 40 = 4.315 L/min BTPS; 0.863 = 760 mmHg · 310.15 K / 273.15 K / 1000 (ideal gas law).
+    assert gas.alveolar_ventilation_ml_min(200.0, 40.0, 37.0) == pytest.approx(4315, rel=2e-3)
+
+
 @given(st.floats(0.5, 5), st.floats(1, 100), st.floats(20, 60), st.floats(20, 42))
-def test_higher_metabolic_rate_needs_more_alveolar_ventilation(factor, vco2, paco2, temp):
+def test_alveolar_ventilation_is_proportional_to_co2_output(factor, vco2, paco2, temp):
+    # Fick's principle: at a fixed PaCO2, VA scales with VCO2 exactly (not merely rises).
     low = gas.alveolar_ventilation_ml_min(vco2, paco2, temp)
     high = gas.alveolar_ventilation_ml_min(vco2 * (1 + factor), paco2, temp)
-    assert high > low
+    assert high == pytest.approx(low * (1 + factor), rel=1e-12)
 
 
 @given(requests(), st.floats(1.05, 3))

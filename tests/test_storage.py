@@ -216,36 +216,39 @@ FORBIDDEN_CALLS = {"eval", "exec", "compile", "__import__"}
 FORBIDDEN_MODULES = {"pickle", "cPickle", "dill", "shelve", "marshal", "yaml", "jsonpickle", "cloudpickle"}
 
 
+def _unsafe_calls(source: str, where: str) -> list[str]:
+    """Every import of a forbidden module and call of a forbidden builtin or loader in ``source``."""
+    problems = []
+    for node in ast.walk(ast.parse(source, filename=where)):
+        at = f"{where}:{getattr(node, 'lineno', '?')}"
+        if isinstance(node, ast.Import):
+            problems += [f"{at} import {a.name}" for a in node.names if a.name.split(".")[0] in FORBIDDEN_MODULES]
+        elif isinstance(node, ast.ImportFrom) and (node.module or "").split(".")[0] in FORBIDDEN_MODULES:
+            problems.append(f"{at} from {node.module} import")
+        elif isinstance(node, ast.Call):
+            fn = node.func
+            name = fn.id if isinstance(fn, ast.Name) else fn.attr if isinstance(fn, ast.Attribute) else ""
+            # Only the builtins: re.compile() and Qt's dialog.exec() are not code execution.
+            builtin = isinstance(fn, ast.Name) or (isinstance(fn, ast.Attribute) and
+                                                   isinstance(fn.value, ast.Name) and fn.value.id == "builtins")
+            if name in FORBIDDEN_CALLS and builtin:
+                problems.append(f"{at} calls {name}()")
+            if isinstance(fn, ast.Attribute) and name in {"load", "loads", "unsafe_load"} and \
+                    isinstance(fn.value, ast.Name) and fn.value.id in FORBIDDEN_MODULES:
+                problems.append(f"{at} calls {fn.value.id}.{name}()")
+    return problems
+
+
 def test_no_unsafe_deserialisation_anywhere_in_the_package():
     """No pickle, shelve, marshal, yaml, eval or exec in ventset/ (the files a user opens are plain JSON/TOML)."""
     problems = []
     for path in sorted((ROOT / "ventset").rglob("*.py")):
-        tree = ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
-        for node in ast.walk(tree):
-            where = f"{path.relative_to(ROOT)}:{getattr(node, 'lineno', '?')}"
-            if isinstance(node, ast.Import):
-                problems += [f"{where} import {a.name}" for a in node.names if a.name.split(".")[0]
-                             in FORBIDDEN_MODULES]
-            elif isinstance(node, ast.ImportFrom) and (node.module or "").split(".")[0] in FORBIDDEN_MODULES:
-                problems.append(f"{where} from {node.module} import")
-            elif isinstance(node, ast.Call):
-                fn = node.func
-                name = fn.id if isinstance(fn, ast.Name) else fn.attr if isinstance(fn, ast.Attribute) else ""
-                # Only the builtins: re.compile() and Qt's dialog.exec() are not code execution.
-                builtin = isinstance(fn, ast.Name) or (isinstance(fn, ast.Attribute) and
-                                                       isinstance(fn.value, ast.Name) and fn.value.id == "builtins")
-                if name in FORBIDDEN_CALLS and builtin:
-                    problems.append(f"{where} calls {name}()")
-                if isinstance(fn, ast.Attribute) and name in {"load", "loads", "unsafe_load"} and \
-                        isinstance(fn.value, ast.Name) and fn.value.id in FORBIDDEN_MODULES:
-                    problems.append(f"{where} calls {fn.value.id}.{name}()")
+        problems += _unsafe_calls(path.read_text(encoding="utf-8"), str(path.relative_to(ROOT)))
     assert problems == []
 
 
-def test_the_safety_scan_would_catch_a_pickle_load(tmp_path):
-    # Negative control for the scan above: the same rules flag a planted offender.
-    tree = ast.parse("import pickle\nx = pickle.loads(b'')\neval('1')\n")
-    flagged = [n for n in ast.walk(tree) if isinstance(n, ast.Import) and n.names[0].name in FORBIDDEN_MODULES]
-    calls = [n for n in ast.walk(tree) if isinstance(n, ast.Call) and isinstance(n.func, ast.Name)
-             and n.func.id in FORBIDDEN_CALLS]
-    assert flagged and calls
+def test_the_safety_scan_would_catch_a_pickle_load():
+    # Negative control: the very scan the test above runs flags each planted offender, and nothing harmless.
+    planted = "import pickle\nfrom yaml import load\nx = pickle.loads(b'')\neval('1')\nbuiltins.exec('1')\n"
+    assert len(_unsafe_calls(planted, "planted.py")) == 5
+    assert _unsafe_calls("import re\nre.compile('x')\ndialog.exec()\n", "harmless.py") == []

@@ -296,7 +296,11 @@ def test_themes_are_readable(qtbot, window, tmp_path):
 
 
 def test_font_guard():
-    assert QFontInfo(QApplication.font()).family()
+    # A family name is always returned; the loaded font must also hold the characters the tiles show.
+    from PySide6.QtGui import QRawFont
+
+    raw = QRawFont.fromFont(QApplication.font())
+    assert raw.isValid() and raw.supportsCharacter(ord("8")) and raw.supportsCharacter(ord("°"))
 
 
 def test_text_follows_the_application_font(qtbot, window):
