@@ -273,4 +273,6 @@ def _load_library(folder: Path) -> Library:
                    planning=dict(load_resource("planning.toml", folder)["defaults"]))
 
 
+# Tests and the GUI clear the cache through the public function; mypy has no way to declare an attribute set on
+# a plain function, hence the ignore.
 load_library.cache_clear = _load_library.cache_clear  # type: ignore[attr-defined]

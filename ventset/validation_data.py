@@ -44,7 +44,10 @@ class Published:
             return self.mean
         if self.low is not None and self.high is not None:
             return (self.low + self.high) / 2.0
-        return float(self.low if self.low is not None else self.high)  # type: ignore[arg-type]
+        limit = self.low if self.low is not None else self.high
+        if limit is None:  # the schema refuses a published value with neither a mean nor a band
+            raise ValueError("a published value needs a mean or a low/high band")
+        return limit
 
     def as_dict(self) -> dict[str, float]:
         return {k: v for k, v in (("mean", self.mean), ("sd", self.sd), ("low", self.low), ("high", self.high))
