@@ -450,13 +450,10 @@ class Entries(Table):
 
 @dataclass(frozen=True, eq=False)
 class TableList(Table):
-    """A list of tables (``[[name]]`` at the top level, ``name = [ {...}, ... ]`` inside an entry).
-
-    Errors name an item ``<name> #<n>``, or ``<name> '<text>'`` by its ``label_key`` field when that is text.
-    """
+    """A list of tables (``[[name]]`` at the top level, ``name = [ {...}, ... ]`` inside an entry)."""
 
     min_items: int = 0
-    label_key: str = ""
+    label_key: str = ""  # errors name an item by this text field (``observation 'x1'``), else ``observation #1``
 
     def read(self, raw: object, at: Where) -> tuple[Any, ...]:
         if not isinstance(raw, list):
@@ -480,17 +477,14 @@ class TableList(Table):
 
 @dataclass(frozen=True, eq=False)
 class FileSchema:
-    """One file in resources/: its top-level fields, cross-field checks, and the prose for SCHEMA.md.
-
-    ``version`` is the ``schema_version`` the file must start with; ``None`` for a file that carries none.
-    """
+    """One file in resources/: its top-level fields, cross-field checks, and the prose for SCHEMA.md."""
 
     name: str
     title: str
     fields: tuple[Field, ...]
     doc: str = ""
     checks: tuple[Check, ...] = ()
-    version: int | None = 1
+    version: int | None = 1  # the schema_version the file starts with; None for a file that carries none
 
     def read(self, document: dict[str, Any]) -> dict[str, Any]:
         """Check a parsed TOML document; return its values or raise one DataError line."""
