@@ -6,6 +6,7 @@ bash scripts/setup.sh --test || exit 1
 export QT_QPA_PLATFORM=offscreen PYQTGRAPH_QT_LIB=PySide6
 unset PYTHONDONTWRITEBYTECODE
 .venv/bin/python -m ruff check . || exit 1
+.venv/bin/python -m mypy || exit 1   # the core; configured in pyproject.toml [tool.mypy]
 .venv/bin/python -m pytest "$@"
 rc=$?
 if [ "$rc" -eq 5 ]; then

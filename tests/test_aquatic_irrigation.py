@@ -241,12 +241,18 @@ def test_every_number_in_the_file_has_a_source():
 
 
 @pytest.mark.parametrize(("old", "new", "needle"), [
-    ('obligate_ram = false\nmass_kg', 'obligate_ram = false\ncolour = "gold"\nmass_kg', "field 'colour' is unknown"),
+    ('obligate_ram = false\nmass_kg', 'obligate_ram = false\ncolour = "gold"\nmass_kg', "unknown field 'colour'"),
     ('q10 = { value = 2.4, source = "Clarke & Johnston 1999 (abstract seen): median within-species acclimation Q10 '
      '= 2.40 (n = 14)" }', 'q10 = { value = 2.4 }', "field 'q10' has no source"),
     ('extraction = { conservative = 0.2, usual = 0.3, source = "derived from Davis & Cameron 1971, J Exp Biol 54:1 '
      '(abstract seen): spontaneously', 'extraction = { conservative = 0.2, usual = 0.3, best = 0.5, source = '
-     '"derived from Davis & Cameron 1971, J Exp Biol 54:1 (abstract seen): spontaneously', "unknown key(s) best"),
+     '"derived from Davis & Cameron 1971, J Exp Biol 54:1 (abstract seen): spontaneously',
+     "field 'extraction' has unknown key 'best'"),
+    ('kind = "teleost"', 'kind = "fish"', "field 'kind' must be one of teleost, elasmobranch, amphibian (got text"),
+    ('resting_vo2 = { model = "clarke_johnston_1999",', 'resting_vo2 = { model = "clarke_johnston_1999", ml_kg_h = 90,',
+     "field 'resting_vo2' needs exactly one of"),
+    ('mass_kg = { min = 0.01, max = 25,', 'mass_kg = { min = 0.01, max = "25",',
+     "field 'mass_kg' max must be a number (got text '25')"),
 ])
 def test_malformed_file_refused_naming_file_entry_field(tmp_path: Path, old, new, needle):
     text = resource_path("aquatic.toml").read_text(encoding="utf-8")
@@ -256,7 +262,14 @@ def test_malformed_file_refused_naming_file_entry_field(tmp_path: Path, old, new
     with pytest.raises(DataError) as err:
         load_aquatic_data(bad)
     msg = str(err.value)
-    assert "aquatic.toml group 'carp_koi'" in msg and needle in msg and "\n" not in msg
+    assert msg.startswith("aquatic.toml: group 'carp_koi': ") and needle in msg and "\n" not in msg
+
+
+def test_the_schema_names_the_model_the_metabolism_module_computes():
+    from ventset.aquatic.metabolism import CLARKE_JOHNSTON
+    from ventset.datafiles_aquatic import VO2_MODELS
+
+    assert VO2_MODELS == (CLARKE_JOHNSTON,)
 
 
 # ------------------------------------------------------------------ files, text, plots

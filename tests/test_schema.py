@@ -191,6 +191,14 @@ def rename(table, old, new):
     table[new] = table.pop(old)
 
 
+def fish(d, key):
+    return d["groups"][key]
+
+
+def row(d, i):
+    return d["observation"][i]
+
+
 CASES = [
     # (id, file, mutate, substrings the one-line message must contain)
     ("missing-threshold", "cautions.toml", lambda d: d["thresholds"].pop("pao2_danger_mmhg"),
@@ -326,6 +334,62 @@ CASES = [
      ["species 'cat'", "field 'label' 'Dog' already names species 'dog'"]),
     ("alias-of-another-species", "species.toml", lambda d: d["species"]["cat"]["aliases"].append("Canine"),
      ["species 'cat'", "field 'aliases' 'Canine' already names species 'dog'"]),
+    # aquatic.toml
+    ("aquatic-text-number", "aquatic.toml", lambda d: fish(d, "goldfish")["q10"].update(value="2.4"),
+     ["group 'goldfish'", "field 'q10' value must be a number (got text '2.4')"]),
+    ("aquatic-missing-default", "aquatic.toml", lambda d: d["defaults"].pop("low_saturation_percent"),
+     ["[defaults]", "field 'low_saturation_percent' is missing"]),
+    ("aquatic-default-range", "aquatic.toml", lambda d: d["defaults"]["demand_factor"].update(value=30),
+     ["[defaults]", "field 'demand_factor' value must be from 1 to 3 × (got 30 ×)"]),
+    ("aquatic-default-order", "aquatic.toml", lambda d: d["defaults"]["supersaturation_percent"].update(value=150),
+     ["[defaults]", "field 'supersaturation_percent' 150 must be at most gas_bubble_percent 136"]),
+    ("aquatic-two-rates", "aquatic.toml", lambda d: fish(d, "carp_koi")["resting_vo2"].update(mg_kg_h=100),
+     ["group 'carp_koi'", "field 'resting_vo2' needs exactly one of", "(got model, mg_kg_h)"]),
+    ("aquatic-unknown-model", "aquatic.toml", lambda d: fish(d, "carp_koi")["resting_vo2"].update(model="guess"),
+     ["group 'carp_koi'", "field 'resting_vo2' model must be one of clarke_johnston_1999 (got text 'guess')"]),
+    ("aquatic-kind", "aquatic.toml", lambda d: fish(d, "shark").update(kind="mammal"),
+     ["group 'shark'", "field 'kind' must be one of teleost, elasmobranch, amphibian"]),
+    ("aquatic-gill-alone", "aquatic.toml", lambda d: fish(d, "carp_koi").pop("barrier_um"),
+     ["group 'carp_koi'", "field 'gill_area' needs barrier_um too"]),
+    ("aquatic-extraction-order", "aquatic.toml", lambda d: fish(d, "ray")["extraction"].update(conservative=0.5),
+     ["group 'ray'", "field 'extraction' conservative 0.5 must be at most usual 0.3"]),
+    ("aquatic-water-outside", "aquatic.toml", lambda d: fish(d, "goldfish")["water_temperature_c"].update(value=35),
+     ["group 'goldfish'", "field 'water_temperature_c' value 35 is outside min..max 8..28"]),
+    ("aquatic-danger-note", "aquatic.toml", lambda d: fish(d, "ray")["notes"][1].update(severity="danger"),
+     ["group 'ray' notes #2", "field 'severity' must be one of info, caution"]),
+    ("aquatic-note-source", "aquatic.toml", lambda d: fish(d, "ray")["notes"][0].pop("source"),
+     ["group 'ray' notes #1", "field 'source' is missing or empty"]),
+    ("aquatic-group-key", "aquatic.toml", lambda d: rename(d["groups"], "ray", "Ray"),
+     ["group 'Ray'", "the key must be lower_snake"]),
+    ("aquatic-no-version-line", "aquatic.toml", lambda d: d.update(schema_version=1),
+     ["unknown key 'schema_version'"]),
+    # validation.toml
+    ("validation-repeated-id", "validation.toml", lambda d: d["observation"][1].update(id="dog_bumbacher2017_vt10"),
+     ["observation 'dog_bumbacher2017_vt10'", "field 'id' is used twice"]),
+    ("validation-mass", "validation.toml", lambda d: row(d, 0)["conditions"].update(mass_kg=0),
+     ["observation 'dog_bumbacher2017_vt10'", "field 'conditions' mass_kg must be above 0.001"]),
+    ("validation-no-mass", "validation.toml", lambda d: row(d, 0)["conditions"].pop("mass_kg"),
+     ["observation 'dog_bumbacher2017_vt10'", "field 'conditions' mass_kg is missing"]),
+    ("validation-whole-n", "validation.toml", lambda d: row(d, 0)["conditions"].update(n=12.5),
+     ["observation 'dog_bumbacher2017_vt10'", "field 'conditions' n must be a whole number (got 12.5)"]),
+    ("validation-no-rate", "validation.toml",
+     lambda d: [row(d, 0)["conditions"].pop(k) for k in ("rate_min", "rate_max")],
+     ["observation 'dog_bumbacher2017_vt10'", "field 'conditions' needs the rate used for an outcome"]),
+    ("validation-rate-range-mean", "validation.toml", lambda d: row(d, 0).update(published={"mean": 37.0}),
+     ["observation 'dog_bumbacher2017_vt10'", "field 'published' must be a band"]),
+    ("validation-mean-and-band", "validation.toml", lambda d: row(d, 0)["published"].update(mean=37.0),
+     ["observation 'dog_bumbacher2017_vt10'", "field 'published' give a mean (± sd) or a band"]),
+    ("validation-negative-sd", "validation.toml", lambda d: row(d, 3)["published"].update(sd=-0.27),
+     ["observation 'dog_mikat1984_vo2_ippv'", "field 'published' sd must be at least 0"]),
+    ("validation-disagreement-on-outcome", "validation.toml", lambda d: row(d, 0).update(known_disagreement="x"),
+     ["observation 'dog_bumbacher2017_vt10'", "field 'known_disagreement' is for inputs only"]),
+    ("validation-empty-source", "validation.toml", lambda d: row(d, 0).update(source=" "),
+     ["observation 'dog_bumbacher2017_vt10'", "field 'source' is missing or empty"]),
+    ("validation-assumed-unknown", "validation.toml", lambda d: row(d, 0)["assumed"].update(colour="why"),
+     ["observation 'dog_bumbacher2017_vt10'", "field 'assumed' has unknown key 'colour'"]),
+    ("validation-row-without-id", "validation.toml", lambda d: row(d, 2).pop("id"),
+     ["observation #3", "field 'id' is missing"]),
+    ("validation-no-rows", "validation.toml", lambda d: d.pop("observation"), ["field 'observation' is missing"]),
 ]
 
 

@@ -70,12 +70,12 @@ def test_loader_accepts_a_good_row(tmp_path):
 
 
 @pytest.mark.parametrize("change, field", [
-    ('colour = "red"\n', "colour"),
-    ('conditions = { mass_kg = 20, weather = 3 }\n', "conditions.weather"),
-    ('published = { mean = 0.8, median = 1 }\n', "published.median"),
-    ('seen = "heard"\n', "seen"),
-    ('quantity = "paco2_mmhg"\n', "quantity"),
-    ('conditions = { mass_kg = 20, rate_min = 5 }\n', "conditions.rate_min"),
+    ('colour = "red"\n', "unknown field 'colour'"),
+    ('conditions = { mass_kg = 20, weather = 3 }\n', "field 'conditions' has unknown key 'weather'"),
+    ('published = { mean = 0.8, median = 1 }\n', "field 'published' has unknown key 'median'"),
+    ('seen = "heard"\n', "field 'seen' must be one of"),
+    ('quantity = "paco2_mmhg"\n', "field 'quantity' 'paco2_mmhg' is an outcome, not an input"),
+    ('conditions = { mass_kg = 20, rate_min = 5 }\n', "field 'conditions' rate_min is given without rate_max"),
 ])
 def test_loader_refuses_with_one_line_naming_row_and_field(tmp_path, change, field):
     key = change.split(" ")[0]
@@ -83,7 +83,23 @@ def test_loader_refuses_with_one_line_naming_row_and_field(tmp_path, change, fie
     with pytest.raises(DataError) as err:
         load_file(_write(tmp_path, "".join(lines) + change), frozenset({"dog"}))
     msg = str(err.value)
-    assert "\n" not in msg and "'x1'" in msg and f"'{field}'" in msg
+    assert "\n" not in msg and msg.startswith("validation.toml: observation 'x1': ") and field in msg, msg
+
+
+@pytest.mark.parametrize("old, new, needle", [
+    ("mass_kg = 20", "mass_kg = -20",
+     "field 'conditions' mass_kg must be above 0.001 and at most 10000 kg (got -20 kg)"),
+    ('seen = "abstract"', "seen = true", "field 'seen' must be one of abstract, full text, from memory (got true)"),
+    ("published = { mean = 0.8 }", "published = { sd = 0.1 }", "field 'published' needs a mean or a low/high band"),
+    ('quote = "RQ 0.8"', 'quote = ""', "field 'quote' must not be empty"),
+    ('id = "x1"', 'id = "x1"\nid2 = "x2"', "unknown field 'id2' (did you mean 'id'?)"),
+])
+def test_a_bad_row_names_its_field(tmp_path, old, new, needle):
+    assert old in GOOD
+    with pytest.raises(DataError) as err:
+        load_file(_write(tmp_path, GOOD.replace(old, new)), frozenset({"dog"}))
+    msg = str(err.value)
+    assert msg.startswith("validation.toml: observation 'x1': ") and needle in msg and "\n" not in msg, msg
 
 
 def test_loader_refuses_an_unknown_species(tmp_path):

@@ -30,7 +30,7 @@ KEEP_DISMISSED = 20
 try:  # POSIX advisory locks; released by the kernel when the process dies
     import fcntl
 except ImportError:  # pragma: no cover - Windows
-    fcntl = None  # type: ignore[assignment]
+    fcntl = None  # type: ignore[assignment]  # the module is absent there; callers check for None
 
 
 def autosave_dir() -> Path:

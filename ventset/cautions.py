@@ -46,8 +46,11 @@ class Context:
         return not NOT_CHOSEN & set(self.binding)
 
 
-def caution(severity: str, code: str, template: str, texts: dict[str, str] | None = None, **values: float) -> Caution:
-    """A Caution with its numbers (named by unit suffix) and words kept apart from the sentence."""
+def caution(severity: str, code: str, template: str, texts: dict[str, str] | None = None, /,
+            **values: float) -> Caution:
+    """A Caution with its numbers (named by unit suffix) and words kept apart from the sentence.
+
+    The first four are positional only, so a number's name can never be taken for one of them."""
     return Caution(severity, code, template, tuple((k, float(v)) for k, v in values.items()),
                    tuple((texts or {}).items()))
 

@@ -131,6 +131,7 @@ def _safe_streams() -> None:
     """A terminal that cannot show a character (PYTHONIOENCODING=ascii:strict) gets an escape, not a crash."""
     for stream in (sys.stdout, sys.stderr):
         try:
+            # sys.stdout is typed TextIO, which has no reconfigure; the real TextIOWrapper has (else AttributeError)
             stream.reconfigure(errors="backslashreplace")  # type: ignore[union-attr]
         except (AttributeError, ValueError, OSError):
             pass

@@ -14,6 +14,9 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
+from ventset.datafiles_aquatic import AQUATIC
+from ventset.datafiles_common import below, limits, note_list, same_as, unique_note_codes
+from ventset.datafiles_validation import VALIDATION
 from ventset.fields import FIELDS
 from ventset.schema import (
     LOWER_SNAKE,
@@ -37,32 +40,10 @@ from ventset.schema import (
 )
 from ventset.schema_doc import render_markdown
 
-SPECIES_NOTE_SEVERITIES = ("info", "caution")
 PART_KINDS = ("hme", "filter", "connector", "y_piece", "capnograph", "extension")
 # The planner picks these circuits by body mass (ventset/planner.py), so the file must hold them.
 REQUIRED_CIRCUITS = ("direct_small_patient", "non_rebreathing", "rebreathing_small_animal",
                      "rebreathing_large_animal")
-
-
-def limits(key: str) -> dict[str, Any]:
-    """The hard limits of the user input ``key`` in ventset/fields.py, as Number/SourcedNumber arguments."""
-    spec = FIELDS[key]
-    return {"lo": spec.lo, "hi": spec.hi, "lo_open": spec.lo_open}
-
-
-def _same_as(key: str) -> str:
-    return f" Within the hard limits of the '{FIELDS[key].label}' input."
-
-
-def _below(low: str, high: str, strict: bool = True) -> Any:
-    """A check that ``low`` < ``high`` (or <=) in the same table; errors name ``low``."""
-    def check(v: dict[str, Any], at: Where) -> None:
-        a, b = v[low], v[high]
-        a, b = getattr(a, "value", a), getattr(b, "value", b)
-        if (a >= b) if strict else (a > b):
-            raise at.at(low).fail(f"{a:g} must be {'below' if strict else 'at most'} {high} {b:g}")
-    check.__doc__ = f"{low} {'<' if strict else '<='} {high}"
-    return check
 
 
 # ---------------------------------------------------------------------------------------------------------
@@ -85,15 +66,6 @@ GROUP_FIELDS: tuple[Field, ...] = (
 )
 
 
-def _unique_note_codes(v: dict[str, Any], at: Where) -> None:
-    """note codes are unique within a species"""
-    seen: set[str] = set()
-    for i, n in enumerate(v["notes"]):
-        if n["code"] in seen:
-            raise at.enter(f"{at.entry} notes #{i + 1}").at("code").fail(f"repeats {n['code']!r}")
-        seen.add(n["code"])
-
-
 def _dead_space_below_tidal_volume(v: dict[str, Any], at: Where) -> None:
     """the anatomical dead space left after intubation, at both ends of mass_kg, is below the smallest usual
     tidal volume"""
@@ -108,14 +80,7 @@ def _dead_space_below_tidal_volume(v: dict[str, Any], at: Where) -> None:
                 f"{vt.min * m:.3g} mL ({vt.min:g} mL/kg): no breath in the range would ventilate the alveoli")
 
 
-NOTE = TableList("notes", required=False, default=(), help=(
-    "standing facts about the species, shown with every plan for it"), fields=(
-    Choice("severity", choices=SPECIES_NOTE_SEVERITIES,
-           help="never danger: that is kept for the plan's own numbers"),
-    Text("code", pattern=UPPER_SNAKE, help="stable code; never rename one"),
-    Text("text", help="plain sentences, shown as they are (never as markup)"),
-    Source(),
-))
+NOTE = note_list("standing facts about the species, shown with every plan for it")
 
 SPECIES_FIELDS: tuple[Field, ...] = (
     Text("label", help="name shown to the user (also searched)"),
@@ -125,36 +90,36 @@ SPECIES_FIELDS: tuple[Field, ...] = (
         "else juvenile; an age entered still wins")),
     Text("group", pattern=LOWER_SNAKE, help="key of a [groups.<key>] table in this file"),
     SpanField("mass_kg", unit="kg", start_key=None, **limits("mass"),
-              help="plausible body mass for the mass field (no start)." + _same_as("mass")),
+              help="plausible body mass for the mass field (no start)." + same_as("mass")),
     SpanField("body_temperature_c", unit="°C", start_key="value", **limits("body-temperature"),
               help="normal (reptiles: preferred zone); value = the default, min/max = the normal range."
-                   + _same_as("body-temperature")),
+                   + same_as("body-temperature")),
     SpanField("tidal_volume_ml_kg", unit="mL/kg", **limits("vt-per-kg"),
-              help="usual tidal volume per kg lean mass under IPPV." + _same_as("vt-per-kg")),
+              help="usual tidal volume per kg lean mass under IPPV." + same_as("vt-per-kg")),
     SpanField("rate_per_min", unit="1/min", **limits("rate"),
-              help="usual rate (for rate_mass_scaling.reference_mass_kg when that is given)." + _same_as("rate")),
+              help="usual rate (for rate_mass_scaling.reference_mass_kg when that is given)." + same_as("rate")),
     SourcedNumber("pip_limit_cmh2o", unit="cmH2O", **limits("pressure-limit"),
-                  help="default pressure limit." + _same_as("pressure-limit")),
-    SourcedNumber("peep_cmh2o", unit="cmH2O", **limits("peep"), help="default PEEP." + _same_as("peep")),
-    SourcedNumber("ie_expiratory_part", **limits("ie"), help="E in I:E = 1:E." + _same_as("ie")),
+                  help="default pressure limit." + same_as("pressure-limit")),
+    SourcedNumber("peep_cmh2o", unit="cmH2O", **limits("peep"), help="default PEEP." + same_as("peep")),
+    SourcedNumber("ie_expiratory_part", **limits("ie"), help="E in I:E = 1:E." + same_as("ie")),
     SpanField("paco2_target_mmhg", unit="mmHg", **limits("target-paco2"),
-              help="PaCO2 to aim for." + _same_as("target-paco2")),
+              help="PaCO2 to aim for." + same_as("target-paco2")),
     SourcedNumber("paco2_etco2_gradient_mmhg", unit="mmHg", **limits("gradient"),
                   extra=(Flag("reliable", required=False, default=True,
                               help="false: EtCO2 is a trend only (a caution says so)"),),
-                  help="PaCO2 − EtCO2; negative means EtCO2 reads above PaCO2." + _same_as("gradient")),
+                  help="PaCO2 − EtCO2; negative means EtCO2 reads above PaCO2." + same_as("gradient")),
     SourcedNumber("compliance_ml_cmh2o_kg", unit="mL/cmH2O/kg", lo=0.01, hi=100,
                   help="respiratory-system compliance per kg lean mass"),
     Table("resistance_cmh2o_l_s", help="R = coefficient·M^exponent cmH2O/(L/s), including a suitably sized tube",
           fields=(
               Number("coefficient", unit="cmH2O/(L/s)", **limits("resistance"),
-                     help="R at 1 kg." + _same_as("resistance")),
+                     help="R at 1 kg." + same_as("resistance")),
               Number("exponent", lo=-1.2, hi=0,
                      help="resistance falls with size: Stahl 1967 gives M^-0.70; geometrically similar airways "
                           "(Poiseuille, length and radius ∝ M^1/3) give M^-1; a margin beyond that is allowed"),
               Source())),
     SourcedNumber("alveolar_dead_space_fraction", **limits("alveolar-dead-space"),
-                  help="fraction of VT under anaesthesia." + _same_as("alveolar-dead-space")),
+                  help="fraction of VT under anaesthesia." + same_as("alveolar-dead-space")),
     Table("anatomical_dead_space", help="VD = coefficient_ml·M^exponent mL; intubated, intubated_fraction of it "
                                         "stays", fields=(
         Number("coefficient_ml", unit="mL", lo=0, hi=30, lo_open=True,
@@ -165,7 +130,7 @@ SPECIES_FIELDS: tuple[Field, ...] = (
                     "∝ M^1.03-1.13; a margin of about 0.25 either side is allowed"),
         Number("intubated_fraction", lo=0, hi=1, help="share left in the path once intubated"),
         Source())),
-    SourcedNumber("rq", **limits("rq"), help="respiratory quotient VCO2/VO2." + _same_as("rq")),
+    SourcedNumber("rq", **limits("rq"), help="respiratory quotient VCO2/VO2." + same_as("rq")),
     SourcedNumber("anaesthesia_factor", lo=0.3, hi=1.5, help="multiplies the allometric (basal) rate"),
     Choice("default_mode", choices=("volume", "pressure"), help="ventilation mode to plan in"),
     Flag("mechanics_reliable", help="false: pressure predictions are rough (birds, reptiles)"),
@@ -185,7 +150,7 @@ SPECIES_FIELDS: tuple[Field, ...] = (
     SourcedNumber("juvenile_below_kg", unit="kg", **limits("mass"), required=False, default=None,
                   help="with no age entered, a patient lighter than this (and not a neonate) is planned as juvenile"),
     SourcedNumber("inspiratory_time_s", unit="s", **limits("ti"), required=False, default=None,
-                  help="default Ti (otherwise the rule in planning.toml)." + _same_as("ti")),
+                  help="default Ti (otherwise the rule in planning.toml)." + same_as("ti")),
     Table("rate_mass_scaling", required=False, default=None,
           help="the usual rate range is for reference_mass_kg; at mass M it is multiplied by (M/ref)^exponent",
           fields=(
@@ -238,7 +203,7 @@ SPECIES = FileSchema("species.toml", "species and metabolic groups", doc=(
     Entries("groups", label="group", fields=GROUP_FIELDS,
             help="Metabolic groups: K·M^b kcal/day (M in kg) at a reference body temperature."),
     Entries("species", label="species", fields=SPECIES_FIELDS,
-            checks=(_unique_note_codes, _dead_space_below_tidal_volume),
+            checks=(unique_note_codes, _dead_space_below_tidal_volume),
             help="One table per species or group of similar species."),
 ), checks=(_known_groups, _unique_names))
 
@@ -273,12 +238,12 @@ FRESH_GAS = Section("fresh_gas", help="Numbers for the fresh gas flow suggestion
     _fg("large_animal_circle_above_kg", "kg", "above this mass a large-animal circle is chosen", **_MASS),
     _fg("large_animal_maintenance_ml_kg_min", "mL/kg/min", "large-animal circle flow in maintenance", hi=500),
     _fg("large_animal_induction_ml_kg_min", "mL/kg/min", "large-animal circle flow at induction", hi=500),
-    _fg("sidestream_sampling_ml_min", "mL/min", "typical sidestream analyser flow." + _same_as("sampling-flow"),
+    _fg("sidestream_sampling_ml_min", "mL/min", "typical sidestream analyser flow." + same_as("sampling-flow"),
         **limits("sampling-flow")),
-), checks=(_below("direct_small_patient_below_kg", "non_rebreathing_below_kg"),
-           _below("non_rebreathing_below_kg", "large_animal_circle_above_kg"),
-           _below("rebreathing_maintenance_ml_kg_min", "rebreathing_induction_ml_kg_min", strict=False),
-           _below("large_animal_maintenance_ml_kg_min", "large_animal_induction_ml_kg_min", strict=False)))
+), checks=(below("direct_small_patient_below_kg", "non_rebreathing_below_kg"),
+           below("non_rebreathing_below_kg", "large_animal_circle_above_kg"),
+           below("rebreathing_maintenance_ml_kg_min", "rebreathing_induction_ml_kg_min", strict=False),
+           below("large_animal_maintenance_ml_kg_min", "large_animal_induction_ml_kg_min", strict=False)))
 
 APPARATUS = FileSchema("apparatus.toml", "breathing-circuit parts, circuits and fresh gas", doc=(
     "Typical internal volumes of the parts between the Y-piece (or the patient port of a non-rebreathing "
@@ -293,7 +258,7 @@ APPARATUS = FileSchema("apparatus.toml", "breathing-circuit parts, circuits and 
         Flag("rebreathing", help="true for a circle (rebreathing) system"),
         SourcedNumber("compressible_volume_ml_cmh2o", unit="mL/cmH2O", **limits("compressible-volume"),
                       help="volume lost per breath per cmH2O of (plateau or peak − PEEP)."
-                           + _same_as("compressible-volume")))),
+                           + same_as("compressible-volume")))),
     FRESH_GAS,
 ), checks=(_required_circuits,))
 
@@ -325,7 +290,7 @@ CAUTIONS = FileSchema("cautions.toml", "thresholds of the caution rules", doc=(
         _taus("inspiration_tau_pressure_mode", "in a pressure mode, inspiration shorter than this many time "
               "constants does not fill the lung"),
         SourcedNumber("driving_pressure_caution_cmh2o", unit="cmH2O", **limits("pressure-limit"),
-                      help="driving pressure (plateau − PEEP) above this: caution." + _same_as("pressure-limit")),
+                      help="driving pressure (plateau − PEEP) above this: caution." + same_as("pressure-limit")),
         _share("compressible_share_caution", "circuit compression as a share of VT: caution from here"),
         SourcedNumber("metabolic_ratio_caution", lo=1, hi=10, lo_open=True,
                       help="an entered metabolic rate more than this factor above or below the allometric one"),
@@ -334,7 +299,7 @@ CAUTIONS = FileSchema("cautions.toml", "thresholds of the caution rules", doc=(
         SourcedNumber("small_patient_sidestream_kg", unit="kg", **limits("mass"),
                       help="below this mass sidestream capnography under-reads"),
         SourcedNumber("peep_high_cmh2o", unit="cmH2O", **limits("peep"),
-                      help="PEEP above this: caution (cardiac output)." + _same_as("peep")),
+                      help="PEEP above this: caution (cardiac output)." + same_as("peep")),
         SourcedNumber("paco2_danger_high_mmhg", **_PACO2,
                       help="an expected or measured PaCO2 above this is a danger (planner and titration)"),
         SourcedNumber("paco2_danger_low_mmhg", **_PACO2,
@@ -343,18 +308,18 @@ CAUTIONS = FileSchema("cautions.toml", "thresholds of the caution rules", doc=(
                       help="of the four species inputs the expected PaCO2 and pressures rest on (metabolic level, "
                            "airway and alveolar dead space, compliance), this many or more known only from memory "
                            "give the THIN_DATA caution"),
-    ), checks=(_below("apparatus_share_caution", "apparatus_share_danger"),
-               _below("expiration_tau_danger", "expiration_tau_caution"),
-               _below("pao2_danger_mmhg", "pao2_caution_mmhg"),
-               _below("paco2_danger_low_mmhg", "paco2_danger_high_mmhg"))),
+    ), checks=(below("apparatus_share_caution", "apparatus_share_danger"),
+               below("expiration_tau_danger", "expiration_tau_caution"),
+               below("pao2_danger_mmhg", "pao2_caution_mmhg"),
+               below("paco2_danger_low_mmhg", "paco2_danger_high_mmhg"))),
 ))
 
 PLANNING = FileSchema("planning.toml", "planner defaults that are not species data", doc=(
     "Default inspiratory time when neither Ti nor I:E is entered: Ti = ti_reference_s · (M / "
     "ti_reference_mass_kg)^ti_mass_exponent, never longer than the species' I:E allows."), fields=(
     Section("defaults", help="Planner defaults.", fields=(
-        SourcedNumber("fio2", **limits("fio2"), help="default FiO2." + _same_as("fio2")),
-        SourcedNumber("ti_reference_s", unit="s", **limits("ti"), help="Ti at the reference mass." + _same_as("ti")),
+        SourcedNumber("fio2", **limits("fio2"), help="default FiO2." + same_as("fio2")),
+        SourcedNumber("ti_reference_s", unit="s", **limits("ti"), help="Ti at the reference mass." + same_as("ti")),
         SourcedNumber("ti_reference_mass_kg", unit="kg", **limits("mass"), help="reference mass of the Ti rule"),
         SourcedNumber("ti_mass_exponent", lo=0, hi=0.5,
                       help="Ti scales with the breath period, M^0.26 (Stahl 1967); about twice that is allowed"),
@@ -402,8 +367,8 @@ TITRATION = FileSchema("titration.toml", "numbers for adjusting ventilation from
                       help="a PaCO2 − EtCO2 gradient this much wider than usual points to alveolar dead space"),
         SourcedNumber("paco2_high_caution_mmhg", **_PACO2, help="measured PaCO2 above this: caution"),
         SourcedNumber("paco2_low_caution_mmhg", **_PACO2, help="measured PaCO2 below this: caution"),
-    ), checks=(_below("remeasure_etco2_min", "remeasure_etco2_max_min", strict=False),
-               _below("paco2_low_caution_mmhg", "paco2_high_caution_mmhg"))),
+    ), checks=(below("remeasure_etco2_min", "remeasure_etco2_max_min", strict=False),
+               below("paco2_low_caution_mmhg", "paco2_high_caution_mmhg"))),
 ))
 
 
@@ -438,12 +403,15 @@ OXYGENATION = FileSchema("oxygenation.toml", "PaO2/FiO2 bands and oxygenation th
         SourcedNumber("pao2_severe_hypoxaemia_mmhg", **_PAO2, help="PaO2 below this is severe." + _PAO2_HELP),
         SourcedNumber("spo2_caution_percent", **_PERCENT, help="SpO2 below this: caution"),
         SourcedNumber("spo2_danger_percent", **_PERCENT, help="SpO2 below this: danger"),
-    ), checks=(_below("pao2_severe_hypoxaemia_mmhg", "pao2_hypoxaemia_mmhg"),
-               _below("spo2_danger_percent", "spo2_caution_percent"))),
+    ), checks=(below("pao2_severe_hypoxaemia_mmhg", "pao2_hypoxaemia_mmhg"),
+               below("spo2_danger_percent", "spo2_caution_percent"))),
 ), checks=(_unique_band_codes,))
 
 
-FILES: dict[str, FileSchema] = {f.name: f for f in (SPECIES, APPARATUS, CAUTIONS, PLANNING, TITRATION, OXYGENATION)}
+# aquatic.toml and validation.toml are declared in their own modules (ventset/datafiles_aquatic.py,
+# ventset/datafiles_validation.py); every file is listed here.
+FILES: dict[str, FileSchema] = {f.name: f for f in (SPECIES, APPARATUS, CAUTIONS, PLANNING, TITRATION, OXYGENATION,
+                                                    AQUATIC, VALIDATION)}
 
 PREAMBLE = f"""# Data file reference (resources/*.toml)
 
@@ -456,8 +424,8 @@ Generated from `ventset/datafiles.py` by `python -m ventset.datafiles --write`; 
 - Units are in the key names (`_kg`, `_ml`, `_cmh2o`, `_mmhg`, `_min`, `_s`, `_c` for °C).
 - Loading is strict: a key that is not declared here is refused (with the nearest known key), numbers are
   finite TOML numbers (text such as `"12"` is refused), booleans are unquoted `true`/`false` (not `"no"`, `0`
-  or `1`), text is non-empty, and every file starts with `schema_version = 1`. A bad file stops loading with one
-  line, `<file>: <entry>: field '<name>' <what is wrong>`.
+  or `1`), text is non-empty, and every file but aquatic.toml starts with `schema_version = 1`. A bad file stops
+  loading with one line, `<file>: <entry>: field '<name>' <what is wrong>`.
 - Ranges under "allowed" are plausibility guards against typos and unit slips, not clinical limits; where a
   key matches a user input they are that input's hard limits.
 """

@@ -30,6 +30,11 @@ class FieldSpec:
     lo_open: bool = True
     group: str = "patient"
 
+    def within(self, x: float) -> bool:
+        """True if ``x`` (in the internal unit) is inside the hard limits (lo excluded when ``lo_open``)."""
+        lo_ok = self.lo is None or (x > self.lo if self.lo_open else x >= self.lo)
+        return lo_ok and (self.hi is None or x <= self.hi)
+
 
 FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
     FieldSpec("mass", "Body mass", "patient.mass_kg", "kg", ("kg", "g", "lb"), 0.001, 10000,

@@ -18,7 +18,8 @@ from ventset.resources import resource_dir, resource_path
 from ventset.schema import Sourced, SourcedNumber, Span, Where
 
 __all__ = ["SEVERITIES", "GROUPS", "Sourced", "Span", "Note", "Group", "Species", "Part", "CircuitType", "Library",
-           "load_library", "load_resource", "parse_species", "parse_apparatus", "parse_sourced_table"]
+           "load_library", "load_resource", "load_resource_file", "parse_species", "parse_apparatus",
+           "parse_sourced_table"]
 
 SEVERITIES = ("info", "caution", "danger")
 GROUPS = ("placental", "marsupial", "passerine", "non_passerine", "reptile")
@@ -213,9 +214,14 @@ def load_resource(name: str, folder: Path | None = None) -> dict[str, Any]:
     Returns the declared values: ``Sourced`` for ``{value, source}``, ``Span`` for ranges, and plain
     floats, text, booleans, tuples (lists) and dicts (tables). Raises DataError (one line) if malformed.
     """
+    return load_resource_file(name, resource_path(name, folder))
+
+
+def load_resource_file(name: str, path: Path) -> dict[str, Any]:
+    """Read the file at ``path`` and check it against the schema of ``name`` (e.g. a copy under review)."""
     if name not in FILES:
         raise DataError(f"{name}: no schema is declared for this file (ventset/datafiles.py)")
-    return FILES[name].read(_read_toml(resource_path(name, folder)))
+    return FILES[name].read(_read_toml(path))
 
 
 def _build_species(v: dict[str, Any]) -> tuple[dict[str, Group], dict[str, Species]]:
@@ -277,4 +283,6 @@ def _load_library(folder: Path) -> Library:
                    planning=dict(load_resource("planning.toml", folder)["defaults"]))
 
 
+# Tests and the GUI clear the cache through the public function; mypy has no way to declare an attribute set on
+# a plain function, hence the ignore.
 load_library.cache_clear = _load_library.cache_clear  # type: ignore[attr-defined]

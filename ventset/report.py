@@ -5,11 +5,20 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable
 from dataclasses import asdict
+from typing import overload
 
 from ventset import __version__
 from ventset.model import STRATEGY_LABELS, Caution, Plan, Resolved
 from ventset.present.quantities import MMHG, Units
 from ventset.present.rows import assumption_value, derived_sections, one_line, patient_line, setting_rows
+
+
+@overload
+def json_number(x: float | None) -> float | None: ...
+
+
+@overload
+def json_number(x: object) -> object: ...
 
 
 def json_number(x: object) -> object:

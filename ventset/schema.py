@@ -131,7 +131,7 @@ def default_text(value: object) -> str:
         return "none"
     if isinstance(value, bool):
         return "true" if value else "false"
-    if value == ():
+    if value in ((), ""):
         return "empty"
     return str(value)
 
@@ -323,7 +323,7 @@ class Table(Field):
         return "{ " + ", ".join(f.name for f in self.fields) + " }"
 
     def check_texts(self) -> list[str]:
-        return [(c.__doc__ or c.__name__).strip().splitlines()[0] for c in self.checks]
+        return [" ".join((c.__doc__ or c.__name__).split()) for c in self.checks]
 
     def doc_rows(self, prefix: str = "") -> list[tuple[str, ...]]:
         rows = super().doc_rows(prefix)
@@ -453,19 +453,23 @@ class TableList(Table):
     """A list of tables (``[[name]]`` at the top level, ``name = [ {...}, ... ]`` inside an entry)."""
 
     min_items: int = 0
+    label_key: str = ""  # errors name an item by this text field (``observation 'x1'``), else ``observation #1``
 
     def read(self, raw: object, at: Where) -> tuple[Any, ...]:
         if not isinstance(raw, list):
             raise at.fail(f"must be a list of tables (got {shown(raw)})")
         if len(raw) < self.min_items:
             raise at.fail(f"needs at least {self.min_items} entr{'y' if self.min_items == 1 else 'ies'}")
-        out = []
-        for i, item in enumerate(raw):
-            where = at.enter(f"{at.entry + ' ' if at.entry else ''}{self.name} #{i + 1}")
-            if not isinstance(item, dict):
-                raise where.fail(f"must be a table (got {shown(item)})")
-            out.append(self.read_table(item, where))
-        return tuple(out)
+        return tuple(self.read_item(item, i, at) for i, item in enumerate(raw))
+
+    def read_item(self, item: object, index: int, at: Where) -> Any:
+        """Check item ``index`` (from 0) of the list; errors name it by ``label_key`` or by its number."""
+        label = item.get(self.label_key) if self.label_key and isinstance(item, dict) else None
+        tag = repr(label) if isinstance(label, str) and label.strip() else f"#{index + 1}"
+        where = at.enter(f"{at.entry + ' ' if at.entry else ''}{self.name} {tag}")
+        if not isinstance(item, dict):
+            raise where.fail(f"must be a table (got {shown(item)})")
+        return self.read_table(item, where)
 
     def type_text(self) -> str:
         return "list of tables"
@@ -480,11 +484,13 @@ class FileSchema:
     fields: tuple[Field, ...]
     doc: str = ""
     checks: tuple[Check, ...] = ()
-    version: int = 1
+    version: int | None = 1  # the schema_version the file starts with; None for a file that carries none
 
     def read(self, document: dict[str, Any]) -> dict[str, Any]:
         """Check a parsed TOML document; return its values or raise one DataError line."""
         at = Where(self.name)
+        if self.version is None:
+            return Table(self.name, fields=self.fields, checks=self.checks).read_table(document, at)
         version = document.get("schema_version")
         if "schema_version" not in document:
             raise at.at("schema_version").fail(f"is missing (must be {self.version})")

@@ -29,8 +29,10 @@ def _render_file(fs: FileSchema) -> list[str]:
     if fs.doc:
         out += [fs.doc.strip(), ""]
     plain = [f for f in fs.fields if not isinstance(f, Section | Entries | TableList)]
-    version = Number("schema_version", integer=True, lo=fs.version, hi=fs.version, help="layout version")
-    out += _md_table([r for f in (version, *plain) for r in f.doc_rows()]) + [""]
+    version = () if fs.version is None else (
+        Number("schema_version", integer=True, lo=fs.version, hi=fs.version, help="layout version"),)
+    rows = [r for f in (*version, *plain) for r in f.doc_rows()]
+    out += (_md_table(rows) + [""]) if rows else []
     for f in fs.fields:
         if f in plain or not isinstance(f, Table):
             continue

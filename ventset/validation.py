@@ -162,7 +162,9 @@ def _outcome_result(obs: Observation, lib: Library) -> Result:
         detail = (f"{note}model needs {needed:.3g}/min for {pub.centre:g} mmHg (published "
                   f"{c.rate_min:g}–{c.rate_max:g}/min); predicted at {nearest:.3g}/min")
         return Result(obs, value, within, detail, needed, at_max, at_min)
-    p = plan_at_settings(_request(obs, vt, float(c.rate_per_min)), lib)  # type: ignore[arg-type]
+    if c.rate_per_min is None:  # the schema requires a rate for an outcome (ventset/datafiles_validation.py)
+        return Result(obs, None, False, f"{note}no rate was published")
+    p = plan_at_settings(_request(obs, vt, c.rate_per_min), lib)
     value = _outcome_value(obs.quantity, p)
     if value is None:
         return Result(obs, None, False, f"{note}tidal volume at or below the model's dead space")

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from PySide6.QtCore import Qt
-from PySide6.QtGui import QFontInfo, QImage, QKeySequence
+from PySide6.QtGui import QImage, QKeySequence
 from PySide6.QtWidgets import QApplication
 
 from tests.gui.conftest import settle

@@ -58,6 +58,8 @@ def request_from_dict(data: object, where: str = "irrigation.request") -> Irriga
         elif value is None and name in ("mass_kg", "altitude_m"):
             raise InputError(f"{where}.{name}", "null", "must be a number")
         values[name] = value if text_field or value is None else float(value)
+    # Each value was checked above (text for species and name, else a finite float or None); mypy cannot see
+    # that per key in a dict[str, object].
     req = IrrigationRequest(**values)  # type: ignore[arg-type]
     validate_irrigation_request(req)
     return req

@@ -3,6 +3,9 @@
 from __future__ import annotations
 
 import math
+from typing import Any
+
+Num = Any  # a float, or a numpy array of floats (the plot curves evaluate a whole axis at once)
 
 
 def anatomical_dead_space_ml(mass_kg: float, coefficient_ml: float, exponent: float) -> float:
@@ -40,7 +43,7 @@ def exchange_per_breath_ml(vt_ml, vd_fixed_ml: float, alveolar_fraction: float):
     return vt_ml * (1.0 - alveolar_fraction) - vd_fixed_ml
 
 
-def vt_for_alveolar_ml(va_ml_min, rate_per_min, vd_fixed_ml: float, alveolar_fraction: float):
+def vt_for_alveolar_ml(va_ml_min: Num, rate_per_min: Num, vd_fixed_ml: Num, alveolar_fraction: float) -> Num:
     """Tidal volume (mL) that gives alveolar ventilation VA at rate f: (VA/f + VD_fixed)/(1 − f_alv)."""
     return (va_ml_min / rate_per_min + vd_fixed_ml) / (1.0 - alveolar_fraction)
 

@@ -66,13 +66,11 @@ def record_measurement(entries: tuple[TimelineEntry, ...], request: Request, mea
     source = ""
     if measurement.paco2_mmhg is None and request.targets.gradient_mmhg is None:
         # EtCO2 alone: calibrate it with the gradient of the latest blood gas in the record, if there is one.
-        paired = [e.measurement for e in entries
-                  if e.measurement.paco2_mmhg is not None and e.measurement.etco2_mmhg is not None]
+        paired = [(m.paco2_mmhg - m.etco2_mmhg, m) for m in (e.measurement for e in entries)
+                  if m.paco2_mmhg is not None and m.etco2_mmhg is not None]
         if paired:
-            last = max(paired, key=lambda m: m.time_min)
-            g = last.paco2_mmhg - last.etco2_mmhg
-            spec = FIELDS["gradient"]
-            if spec.lo <= g <= spec.hi:
+            g, last = max(paired, key=lambda pair: pair[1].time_min)
+            if FIELDS["gradient"].within(g):
                 request = replace(request, targets=replace(request.targets, gradient_mmhg=g))
                 clock = f"{last.clock}, " if last.clock else ""
                 source = f"measured at {clock}{fmt(last.time_min)} min"
