@@ -219,7 +219,7 @@ def request_from_inputs(values: Mapping[str, object], parts: Sequence[ApparatusP
     return (replace(request, patient=replace(request.patient, age=young)) if young else request), []
 
 
-def _age_named(values: dict[str, object], mass_kg: float, library) -> str | None:
+def _age_named(values: Mapping[str, object], mass_kg: float, library) -> str | None:
     """The age a young alias typed as the species chooses (puppy → juvenile) when no age is entered."""
     typed, age = values.get("species"), values.get("age")
     if library is None or not isinstance(typed, str) or (isinstance(age, str) and age.strip()):
