@@ -90,7 +90,9 @@ def plan_to_dict(plan: Plan) -> dict:
     return {
         "ventset_version": __version__,
         "standing_notice": plan.standing_notice,
-        "patient": patient_to_dict(r, plan.request.patient.name),
+        "patient": {**patient_to_dict(r, plan.request.patient.name),
+                    "age": plan.basis.growth.age if plan.basis is not None else plan.request.patient.age,
+                    "state": plan.request.patient.state},
         "mode": r.mode,
         "strategy": r.strategy,
         **_blocks(plan),

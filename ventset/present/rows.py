@@ -156,7 +156,10 @@ def patient_line(plan: Plan, units: Units = MMHG) -> str:
     r = plan.resolved
     name = one_line(plan.request.patient.name)
     lean = f", lean {mass_text(r.lean_mass_kg, units)}" if abs(r.lean_mass_kg - r.mass_kg) > 1e-12 else ""
-    return (f"{name + ' — ' if name else ''}{species_text(plan)}, {mass_text(r.mass_kg, units)}{lean}, "
+    age = plan.basis.growth.age if plan.basis is not None else "adult"
+    state = plan.request.patient.state
+    young = f" ({age}{', ' + state if state != 'fasted' else ''})" if age != "adult" or state != "fasted" else ""
+    return (f"{name + ' — ' if name else ''}{species_text(plan)}{young}, {mass_text(r.mass_kg, units)}{lean}, "
             f"{show(r.body_temp_c, 'temperature')} · {r.mode}-controlled")
 
 
