@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 from ventset.errors import InputError
-from ventset.library import Library
+from ventset.library import Library, Sourced, Species
 from ventset.model import AGES, STATES, Assumption, Metabolism, Patient, Targets
 from ventset.physiology import gas, metabolism
 from ventset.stages.inputs import Inputs
@@ -23,16 +24,32 @@ class Growth:
     estimated: bool  # a group default, not a value measured in the species
 
 
+def _age_limits(sp: Species) -> tuple[tuple[str, Sourced | None], ...]:
+    return (("neonate", sp.neonate_below_kg), ("juvenile", sp.juvenile_below_kg))
+
+
+def age_by_mass(sp: Species, mass_kg: Any) -> Any:
+    """'neonate', 'juvenile' or 'adult' by the species' mass thresholds (a float, or an array of masses)."""
+    limits = [(a, lim.value) for a, lim in _age_limits(sp) if lim is not None]
+    if isinstance(mass_kg, int | float):
+        return next((a for a, lim in limits if mass_kg < lim), "adult")
+    import numpy as np
+
+    out = np.full(np.shape(mass_kg), "adult", dtype=object)
+    for a, lim in reversed(limits):  # the first threshold a mass is under wins, as for a float
+        out = np.where(mass_kg < lim, a, out)
+    return out
+
+
 def age_stage(p: Patient, inp: Inputs, lib: Library) -> tuple[Growth, tuple[Assumption, ...]]:
     """The patient's age (entered, or by the species' mass thresholds) and its metabolic factor."""
     sp = inp.species
     notes: list[Assumption] = []
     age = p.age
     if age is None:
-        below = (("neonate", sp.neonate_below_kg), ("juvenile", sp.juvenile_below_kg))
-        age = next((a for a, lim in below if lim is not None and inp.mass_kg < lim.value), "adult")
+        age = age_by_mass(sp, inp.mass_kg)
         if age != "adult":
-            lim = dict(below)[age]
+            lim = dict(_age_limits(sp))[age]
             assert lim is not None
             notes.append(note("age", "Age", age, "", f"by body mass: under {fmt(lim.value)} kg ({lim.source})"))
     if age not in AGES:
@@ -92,7 +109,7 @@ def metabolism_stage(p: Patient, inp: Inputs, lib: Library) -> tuple[Metabolism,
         ]
     else:
         power_w = p.metabolic_rate_w
-    if power_w <= 0:
+    if bool((power_w <= 0) if isinstance(power_w, int | float) else (power_w <= 0).any()):
         raise InputError("metabolic-rate", power_w, "must be above 0 W")
     vo2 = metabolism.vo2_ml_min(power_w, rq)
     return (Metabolism(power_w, allometric_w, vo2, rq * vo2, rq, p.metabolic_rate_w is not None), growth,
