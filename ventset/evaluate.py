@@ -234,7 +234,14 @@ def evaluate_points(s: Subject, vt_ml: Any, rate_per_min: Any) -> Evaluation:
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         ev = _evaluation(s, vt, rate)
     shape = np.broadcast_shapes(*(np.shape(getattr(ev, f.name)) for f in fields(ev)))
-    return Evaluation(**{f.name: np.broadcast_to(getattr(ev, f.name), shape) for f in fields(ev)})
+    return Evaluation(**{f.name: _spread(getattr(ev, f.name), shape) for f in fields(ev)})
+
+
+def _spread(x: Any, shape: tuple[int, ...]) -> Any:
+    """``x`` as an array of ``shape`` (a read-only view when it has to be broadcast)."""
+    import numpy as np
+
+    return x if isinstance(x, np.ndarray) and x.shape == shape else np.broadcast_to(x, shape)
 
 
 @dataclass(frozen=True)

@@ -37,17 +37,26 @@ class BreathingSystem:
     assumptions: tuple[Assumption, ...]
 
 
-def usual_circuit(mass_kg: Any, lib: Library) -> Any:
-    """The breathing system usually chosen for a body mass (a key; an array of keys for an array of masses)."""
+def _circuit_rules(mass_kg: Any, lib: Library) -> tuple[tuple[Any, str], ...]:
+    """(mass test, key) in the order they are tried; a mass passing none gets the small-animal circle."""
     fg = lib.fresh_gas
-    rules = ((mass_kg < fg["direct_small_patient_below_kg"].value, "direct_small_patient"),
-             (mass_kg < fg["non_rebreathing_below_kg"].value, "non_rebreathing"),
-             (mass_kg > fg["large_animal_circle_above_kg"].value, "rebreathing_large_animal"))
-    if is_scalar(mass_kg):
-        return next((key for below, key in rules if below), "rebreathing_small_animal")
+    return ((mass_kg < fg["direct_small_patient_below_kg"].value, "direct_small_patient"),
+            (mass_kg < fg["non_rebreathing_below_kg"].value, "non_rebreathing"),
+            (mass_kg > fg["large_animal_circle_above_kg"].value, "rebreathing_large_animal"))
+
+
+def usual_circuit(mass_kg: float, lib: Library) -> str:
+    """The breathing system usually chosen for a body mass (its key)."""
+    return next((key for below, key in _circuit_rules(mass_kg, lib) if below), "rebreathing_small_animal")
+
+
+def usual_circuit_codes(mass_kg: Any, lib: Library) -> tuple[tuple[str, ...], Any]:
+    """``usual_circuit`` for an array of masses: the keys and, per mass, the index of its key."""
     import numpy as np
 
-    return np.select([r for r, _ in rules], [k for _, k in rules], "rebreathing_small_animal").astype(object)
+    rules = _circuit_rules(np.asarray(mass_kg, dtype=float), lib)
+    return (*(k for _, k in rules), "rebreathing_small_animal"), np.select([r for r, _ in rules],
+                                                                            list(range(len(rules))), len(rules))
 
 
 def circuit_stage(c: Circuit, mass_kg: float, lib: Library) -> BreathingSystem:

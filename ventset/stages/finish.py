@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from ventset.elementwise import larger, smaller
+from ventset.elementwise import is_scalar, larger, smaller
 from ventset.evaluate import Evaluation, Subject, evaluate
 from ventset.library import Library
 from ventset.model import (
@@ -37,7 +37,8 @@ def _box(basis: Basis, s: Strategy) -> tuple[float, float, float, float, tuple[A
     sp, lean = basis.inputs.species, basis.inputs.lean_mass_kg
     vt_span, rate_span = sp.tidal_volume_ml_kg, sp.rate_span_for(lean)
     notes = (note("vt_range", "Tidal volume range", f"{fmt(vt_span.min)}–{fmt(vt_span.max)}", "mL/kg", vt_span.source),
-             note("rate_range", "Rate range", f"{fmt(rate_span.min)}–{fmt(rate_span.max)}", "/min", rate_span.source))
+             note("rate_range", "Rate range", f"{fmt(rate_span.min)}–{fmt(rate_span.max)}" if is_scalar(rate_span.min)
+                  else "scaled with each mass", "/min", rate_span.source))
     vt_lo, vt_hi, rate_lo, rate_hi = vt_span.min, vt_span.max, rate_span.min, rate_span.max
     if s.vt_ml_kg is not None:
         vt_lo, vt_hi = smaller(vt_lo, s.vt_ml_kg), larger(vt_hi, s.vt_ml_kg)

@@ -28,17 +28,21 @@ def _age_limits(sp: Species) -> tuple[tuple[str, Sourced | None], ...]:
     return (("neonate", sp.neonate_below_kg), ("juvenile", sp.juvenile_below_kg))
 
 
-def age_by_mass(sp: Species, mass_kg: Any) -> Any:
-    """'neonate', 'juvenile' or 'adult' by the species' mass thresholds (a float, or an array of masses)."""
-    limits = [(a, lim.value) for a, lim in _age_limits(sp) if lim is not None]
-    if isinstance(mass_kg, int | float):
-        return next((a for a, lim in limits if mass_kg < lim), "adult")
+def age_by_mass(sp: Species, mass_kg: float) -> str:
+    """'neonate', 'juvenile' or 'adult' by the species' mass thresholds."""
+    return next((a for a, lim in _age_limits(sp) if lim is not None and mass_kg < lim.value), "adult")
+
+
+def age_codes(sp: Species, mass_kg: Any) -> tuple[tuple[str, ...], Any]:
+    """``age_by_mass`` for an array of masses: the ages and, per mass, the index of its age."""
     import numpy as np
 
-    out = np.full(np.shape(mass_kg), "adult", dtype=object)
-    for a, lim in reversed(limits):  # the first threshold a mass is under wins, as for a float
-        out = np.where(mass_kg < lim, a, out)
-    return out
+    limits = [(a, lim.value) for a, lim in _age_limits(sp) if lim is not None]
+    m = np.asarray(mass_kg, dtype=float)
+    if not limits:
+        return ("adult",), np.zeros(m.shape, dtype=int)
+    return (*(a for a, _ in limits), "adult"), np.select([m < lim for _, lim in limits], list(range(len(limits))),
+                                                         len(limits))
 
 
 def age_stage(p: Patient, inp: Inputs, lib: Library) -> tuple[Growth, tuple[Assumption, ...]]:
