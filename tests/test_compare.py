@@ -120,7 +120,7 @@ def test_two_to_four_setups(library):
     for n in (1, MAX_SETUPS + 1):
         with pytest.raises(InputError) as err:
             plan_setups(CAT, ["none"] * n, library)
-        assert "2 to 4" in str(err.value)
+        assert "compare 2 to 4 setups" in str(err.value)
 
 
 # --- plans and differences ---------------------------------------------------------------------------------

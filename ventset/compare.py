@@ -109,6 +109,14 @@ def _share(p: Plan) -> float:
     return p.dead_space.total_ml / vt * 100 if vt > 0 else float("inf")
 
 
+def _minute_needed(p: Plan) -> float:
+    """Minute volume (mL/min) that holds the target PaCO2 at the plan's rate: f·(VA/f + VD_fixed)/(1 − f_alv)."""
+    if p.subject is None:  # pragma: no cover - every plan from planner.plan carries it
+        return float("nan")
+    v = p.ventilation
+    return v.rate_per_min * p.subject.vt_for_rate(v.alveolar_ml_min, v.rate_per_min)
+
+
 def _path(path: str) -> Callable[[Plan], float]:
     def get(p: Plan) -> float:
         obj: object = p
@@ -126,6 +134,7 @@ COMPARED: tuple[tuple[str, str, Callable[[Plan], float]], ...] = tuple(
         ("ventilation.rate_per_min", "Rate", None),
         ("ventilation.minute_ml_min", "Minute volume", None),
         ("ventilation.alveolar_ml_min", "Alveolar ventilation needed", None),
+        ("ventilation.minute_needed_ml_min", "Minute volume holding the target at this rate", _minute_needed),
         ("ventilation.ti_s", "Inspiratory time", None),
         ("ventilation.inspiratory_flow_l_min", "Inspiratory flow", None),
         ("ventilation.expected_paco2_mmhg", "Expected PaCO2", None),
@@ -258,7 +267,8 @@ def plan_setups(base: Request, specs: Sequence[str | SetupSpec], library: Librar
 
     lib = library or load_library()
     if not MIN_SETUPS <= len(specs) <= MAX_SETUPS:
-        raise InputError("setup", len(specs), f"give {MIN_SETUPS} to {MAX_SETUPS} setups to compare")
+        raise InputError("setup", "", f"{len(specs)} given; compare {MIN_SETUPS} to {MAX_SETUPS} setups (one "
+                                      "--setup each; 'none' is the patient as entered)")
     setups = []
     for i, raw in enumerate(specs, start=1):
         spec = raw if isinstance(raw, SetupSpec) else parse_spec(raw, i)
@@ -272,13 +282,16 @@ def plan_setups(base: Request, specs: Sequence[str | SetupSpec], library: Librar
 
 def compare_plans(setups: Sequence[Setup]) -> Comparison:
     """The quantities, texts and caution changes of planned setups (the first is the reference)."""
+    from ventset.cautions import limit_words
+
     plans = [s.plan for s in setups]
     quantities = tuple(Quantity(key, label, kind_of(key), tuple(get(p) for p in plans)) for key, label, get in COMPARED)
     texts = (("circuit", "Breathing system", tuple(p.oxygen.circuit_label for p in plans)),
              ("mode", "Mode", tuple(p.resolved.mode for p in plans)),
              ("parts", "Apparatus parts", tuple(", ".join(f"{x.name} {fmt(x.volume_ml)} mL" for x in p.dead_space.parts)
                                                  or "none" for p in plans)),
-             ("limits", "Limits that moved the settings", tuple(", ".join(p.limits.binding) or "none" for p in plans)))
+             ("limits", "Limits that moved the settings", tuple(limit_words(p.limits.binding) or "none"
+                                                                for p in plans)))
     first = {c.code for c in plans[0].cautions}
     changes = []
     for i, p in enumerate(plans[1:], start=1):

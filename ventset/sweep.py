@@ -111,7 +111,7 @@ def masses_between(lo_kg: float, hi_kg: float, step_kg: float | None = None, cou
     if not (np.isfinite(lo_kg) and lo_kg > 0):
         raise InputError("from", lo_kg, "must be a body mass above 0 kg")
     if not (np.isfinite(hi_kg) and hi_kg >= lo_kg):
-        raise InputError("to", hi_kg, f"must be a body mass not below --from ({lo_kg:g} kg)")
+        raise InputError("to", f"{hi_kg:g} kg", f"must not be below the lightest mass ({lo_kg:g} kg)")
     if step_kg is not None:
         if not (np.isfinite(step_kg) and step_kg > 0):
             raise InputError("step", step_kg, "must be a mass above 0 kg")
