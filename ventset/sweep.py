@@ -224,7 +224,13 @@ def _group(request: Request, inputs: Inputs, lib: Library) -> tuple[dict[str, An
         "rate_min_per_min": ci.rate_lo, "rate_max_per_min": ci.rate_hi, "vt_pressure_max_ml": ci.vt_pressure_max_ml,
         **{f"flag_{b}": flags[b] for b in BINDING_ORDER},
     }
-    return {k: _spread(np.asarray(v), n) for k, v in values.items()}, ci.fixed
+    return {k: _spread(_numbers(v), n) for k, v in values.items()}, ci.fixed
+
+
+def _numbers(x: Any) -> Any:
+    """``x`` as a float array (a flag stays boolean; a whole number such as 0 mL of parts becomes a float)."""
+    arr = np.asarray(x)
+    return arr if arr.dtype == bool or arr.dtype == float else arr.astype(float)
 
 
 def _where(mask: Any) -> Any:
