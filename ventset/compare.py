@@ -263,21 +263,24 @@ def _named(err: InputError, where: str) -> InputError:
 
 def plan_setups(base: Request, specs: Sequence[str | SetupSpec], library: Library | None = None) -> Comparison:
     """Plan each setup for the base patient and compare them; InputError naming the setup and field."""
-    from ventset.planner import plan
-
     lib = library or load_library()
     if not MIN_SETUPS <= len(specs) <= MAX_SETUPS:
         raise InputError("setup", "", f"{len(specs)} given; compare {MIN_SETUPS} to {MAX_SETUPS} setups (one "
                                       "--setup each; 'none' is the patient as entered)")
-    setups = []
-    for i, raw in enumerate(specs, start=1):
-        spec = raw if isinstance(raw, SetupSpec) else parse_spec(raw, i)
-        request, notes = apply_spec(base, spec, lib, i)
-        try:
-            setups.append(Setup(spec, request, plan(request, lib), notes))
-        except InputError as err:
-            raise _named(err, f"setup {i}") from None
-    return compare_plans(setups)
+    return compare_plans([plan_setup(base, raw, i, lib) for i, raw in enumerate(specs, start=1)])
+
+
+def plan_setup(base: Request, spec: str | SetupSpec, number: int = 1, library: Library | None = None) -> Setup:
+    """One setup planned; InputError keyed 'setup' naming the setup and the field."""
+    from ventset.planner import plan
+
+    lib = library or load_library()
+    parsed = spec if isinstance(spec, SetupSpec) else parse_spec(spec, number)
+    request, notes = apply_spec(base, parsed, lib, number)
+    try:
+        return Setup(parsed, request, plan(request, lib), notes)
+    except InputError as err:
+        raise _named(err, f"setup {number}") from None
 
 
 def compare_plans(setups: Sequence[Setup]) -> Comparison:
@@ -327,4 +330,4 @@ def spec_help() -> str:
 
 
 __all__ = ["COMPARED", "Comparison", "Quantity", "Setup", "SetupSpec", "apply_spec", "compare_plans",
-           "comparison_to_dict", "input_keys", "parse_spec", "plan_setups", "spec_help"]
+           "comparison_to_dict", "input_keys", "parse_spec", "plan_setup", "plan_setups", "spec_help"]
