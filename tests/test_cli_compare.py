@@ -85,7 +85,8 @@ def test_chart_marks_rows_a_limit_moved(capsys):
     assert all(r["marks"] for r in rows if not r["target_reached"])
     rc, text, _ = _run(capsys, "chart", "--species", "cat", "--masses", "0.5-4 kg", "--rows", "5", "--apparatus",
                        "hme_paediatric")
-    assert "MARKED ROWS" in text and "[1] 0.5 kg: NO GAS EXCHANGE" in text and "NOTICE: " + STANDING_NOTICE in text
+    assert "MARKED ROWS" in text and "  [1] 0.5 kg" in text and "NO GAS EXCHANGE" in text
+    assert "NOTICE: " + STANDING_NOTICE in text
 
 
 def test_chart_csv_to_terminal_and_file(capsys, tmp_path):

@@ -29,7 +29,7 @@ COLUMNS: tuple[tuple[str, str, str], ...] = (
     ("set_tidal_volume_ml", "Set VT", "volume"),
     ("tidal_volume_ml", "VT at patient", "volume"),
     ("rate_per_min", "Rate", "rate"),
-    ("minute_ml_min", "Minute volume", "flow_ml"),
+    ("minute_ml_min", "Minute vol.", "flow_ml"),
     ("ti_s", "Ti", "seconds"),
     ("peep_cmh2o", "PEEP", "cmh2o"),
     ("peak_cmh2o", "Peak", "cmh2o"),
@@ -60,6 +60,18 @@ class Chart:
     def marked_rows(self) -> int:
         return sum(1 for m in self.marks if m)
 
+    def mark_groups(self) -> list[tuple[tuple[str, ...], list[int]]]:
+        """Each distinct set of marks once, in order of first appearance, with the rows that carry it."""
+        groups: dict[tuple[str, ...], list[int]] = {}
+        for i, m in enumerate(self.marks):
+            if m:
+                groups.setdefault(m, []).append(i)
+        return list(groups.items())
+
+    def refs(self) -> dict[int, int]:
+        """Row index → the number of its set of marks (1, 2, …); unmarked rows are absent."""
+        return {i: k for k, (_, rows) in enumerate(self.mark_groups(), start=1) for i in rows}
+
 
 def _usual_range(sw: MassSweep, lib: Library) -> tuple[Any, Any, Any, Any]:
     """The species' usual tidal volume (mL) and rate at each mass, before widening to what was entered."""
@@ -71,17 +83,15 @@ def _usual_range(sw: MassSweep, lib: Library) -> tuple[Any, Any, Any, Any]:
 def row_marks(sw: MassSweep, lib: Library) -> tuple[tuple[str, ...], ...]:
     """Why each row needs a second look (empty when it sits inside every limit and reaches the target)."""
     from ventset.cautions import limit_words
-    from ventset.present.quantities import gas
 
     vt_lo, vt_hi, rate_lo, rate_hi = _usual_range(sw, lib)
     out = []
     for i in range(len(sw)):
         marks: list[str] = []
-        paco2 = float(sw.expected_paco2_mmhg[i])
         if float(sw.alveolar_ml_min[i]) <= 0:
             marks.append("NO GAS EXCHANGE: the dead space takes the whole breath")
         elif not sw.target_reached[i]:
-            marks.append(f"TARGET NOT REACHED: expected PaCO2 {gas(paco2)}")
+            marks.append("TARGET NOT REACHED: the expected PaCO2 in the table is off the target")
         binding = tuple(b for b in sw.binding_at(i) if b != "fixed_by_user")
         if binding:
             marks.append(f"limited by {limit_words(binding)}")
@@ -194,22 +204,16 @@ def chart_to_text(chart: Chart, units: Units = MMHG) -> str:
     from ventset.present.rows import assumption_value
 
     head = [h for _, h, _ in COLUMNS] + ["see"]
-    body = []
-    notes: list[str] = []
-    for i in range(len(chart.sweep)):
-        ref = ""
-        if chart.marks[i]:
-            notes.append(f"  [{len(notes) + 1}] {cell(chart, i, 'mass_kg', 'mass', units)}: "
-                         + "; ".join(chart.marks[i]))
-            ref = f"[{len(notes)}]"
-        body.append([cell(chart, i, k, kind, units) for k, _, kind in COLUMNS] + [ref])
+    refs = chart.refs()
+    body = [[cell(chart, i, k, kind, units) for k, _, kind in COLUMNS] + [f"[{refs[i]}]" if i in refs else ""]
+            for i in range(len(chart.sweep))]
+    notes = [f"  [{k}] {mark_rows_text(chart, rows, units)}: " + "; ".join(marks)
+             for k, (marks, rows) in enumerate(chart.mark_groups(), start=1)]
     widths = [max(len(r[c]) for r in (head, *body)) for c in range(len(head))]
     lines = header_lines(chart)[:1] + [header_lines(chart)[2], ""]
     lines += ["  ".join(x.rjust(w) for x, w in zip(r, widths, strict=True)).rstrip() for r in (head, *body)]
     if len(chart.circuit_labels) > 1:
-        changes = [f"{cell(chart, i, 'mass_kg', 'mass', units)}: {chart.circuit_labels[str(chart.sweep.circuit[i])]}"
-                   for i in range(len(chart.sweep)) if i == 0 or chart.sweep.circuit[i] != chart.sweep.circuit[i - 1]]
-        lines += ["", "Breathing system by mass (from): " + "; ".join(changes)]
+        lines += ["", circuit_changes(chart, units)]
     lines += ["", "MARKED ROWS", *(notes or ["  none"])]
     lines += ["", "ASSUMPTIONS FOR EVERY ROW",
               *(f"  {a.name}: {assumption_value(a, units)} — {a.source}" for a in chart.common)]
@@ -217,6 +221,28 @@ def chart_to_text(chart: Chart, units: Units = MMHG) -> str:
         lines += ["", "Change with mass (see a single plan at that mass): " + "; ".join(chart.varying)]
     lines += ["", "NOTICE: " + chart.standing_notice]
     return "\n".join(lines)
+
+
+def circuit_changes(chart: Chart, units: Units = MMHG) -> str:
+    """Which breathing system the rows use, from which mass on ('' when one serves every row)."""
+    sw = chart.sweep
+    changes = [f"{cell(chart, i, 'mass_kg', 'mass', units)}: {chart.circuit_labels[str(sw.circuit[i])]}"
+               for i in range(len(sw)) if i == 0 or sw.circuit[i] != sw.circuit[i - 1]]
+    return "Breathing system by mass (from): " + "; ".join(changes) if len(changes) > 1 else ""
+
+
+def mark_rows_text(chart: Chart, rows: list[int], units: Units = MMHG) -> str:
+    """The masses a set of marks applies to: '2 kg', '2–6 kg' for consecutive rows, or a list."""
+    def mass(i: int) -> str:
+        return cell(chart, i, "mass_kg", "mass", units)
+
+    runs: list[list[int]] = []
+    for i in rows:
+        if runs and i == runs[-1][-1] + 1:
+            runs[-1].append(i)
+        else:
+            runs.append([i])
+    return ", ".join(mass(r[0]) if len(r) == 1 else f"{mass(r[0])} to {mass(r[-1])}" for r in runs)
 
 
 def parse_mass_range(text: str) -> tuple[str, str]:
