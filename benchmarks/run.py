@@ -7,6 +7,10 @@ Measures, offscreen:
   edit_to_views_ms_p50/p95  one typed key in a field → replan → every read-out and plot updated and painted
                             (200 edits at 1400 × 900)
   settings_map_ms           computing a 200 × 200 tidal volume × rate map (median)
+  sweep_10k_ms(_min)        the sweep over body mass (ventset.sweep) at 10,000 masses, dog 2-40 kg (median, fastest)
+  plan_loop_10k_s           plan() called once per mass at the same 10,000 masses
+  sweep_speedup             plan_loop_10k_s / sweep_10k_ms (how many times faster the sweep is)
+  sweep_max_rel_diff        largest relative difference of tidal volume, rate and PaCO2 between the two
   cold_start_s              process start → window with the demo patient drawn (median of 5)
   cli_plan_s                one `ventset plan` process (median of 5)
   library_import_s          baseline: a process that only imports PySide6.QtWidgets, pyqtgraph and numpy
@@ -125,6 +129,38 @@ def settings_map_ms(n: int = 60) -> float:
     return statistics.median(out)
 
 
+def sweep_vs_plan(n: int = 10_000, repeats: int = 15) -> dict:
+    """The sweep over body mass against plan() in a loop, at the same n masses (dog, 2-40 kg)."""
+    import numpy as np
+
+    from ventset.library import load_library
+    from ventset.model import Patient, Request
+    from ventset.planner import plan
+    from ventset.sweep import sweep_mass, with_mass
+
+    lib = load_library()
+    request = Request(Patient("dog", 20.0))
+    masses = np.linspace(2.0, 40.0, n)
+    sweep_mass(request, masses, lib)  # warm
+    times = []
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        sw = sweep_mass(request, masses, lib)
+        times.append((time.perf_counter() - t0) * 1000)
+    worst = 0.0
+    t0 = time.perf_counter()
+    for i, m in enumerate(masses):
+        v = plan(with_mass(request, m), lib).ventilation
+        for got, want in ((sw.tidal_volume_ml[i], v.tidal_volume_ml), (sw.rate_per_min[i], v.rate_per_min),
+                          (sw.expected_paco2_mmhg[i], v.expected_paco2_mmhg)):
+            worst = max(worst, abs(float(got) - want) / abs(want))
+    loop_s = time.perf_counter() - t0
+    sweep_ms = statistics.median(times)
+    return {"sweep_10k_ms": round(sweep_ms, 3), "sweep_10k_ms_min": round(min(times), 3),
+            "plan_loop_10k_s": round(loop_s, 3),
+            "sweep_speedup": round(loop_s * 1000 / sweep_ms), "sweep_max_rel_diff": float(f"{worst:.2g}")}
+
+
 def _pct(xs: list[float], q: float) -> float:
     s = sorted(xs)
     return s[min(len(s) - 1, int(round(q * (len(s) - 1))))]
@@ -152,6 +188,7 @@ def main() -> int:
         result["edits"] = len(edits)
         result["with_panels"] = ns.with_panels
         result["settings_map_ms"] = round(settings_map_ms(), 3)
+        result.update(sweep_vs_plan())
         result["cold_start_s"] = round(_median_runs([py, "-m", "ventset"], dict(env, VENTSET_GUI_SMOKE="1"),
                                                     until="ready"), 3)
         result["cli_plan_s"] = round(_median_runs([*ventset_cmd, "plan", "--species", "dog", "--mass", "20 kg"],

@@ -16,9 +16,10 @@ Model, steady state:
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 from typing import Any
 
+from ventset.elementwise import is_scalar, larger, smaller
 from ventset.physiology import deadspace, gas, mechanics
 
 # The alveolar gas equation is fed at most this PaCO2 (mmHg): beyond it the patient is far outside any
@@ -53,12 +54,7 @@ class TimingRule:
             return cycle * 0.0 + self.entered_ti_s
         if self.entered_ie is not None:
             return cycle / (1.0 + self.entered_ie)
-        by_ie = cycle / (1.0 + self.species_ie)
-        if isinstance(by_ie, float):
-            return min(self.typical_ti_s, by_ie)
-        import numpy as np
-
-        return np.minimum(self.typical_ti_s, by_ie)
+        return smaller(self.typical_ti_s, cycle / (1.0 + self.species_ie))
 
     def rule_at(self, rate_per_min: float) -> str:
         """Which rule set Ti at this rate: 'entered_ti', 'entered_ie', 'typical_ti' or 'species_ie'."""
@@ -188,28 +184,64 @@ def _pao2(s: Subject, paco2: Num) -> Num:
     return gas.alveolar_po2_mmhg(s.fio2, s.barometric_mmhg, s.water_vapour_mmhg, paco2, s.rq)
 
 
-def evaluate(s: Subject, vt_ml: float, rate_per_min: float) -> Evaluation:
-    """Everything (vt_ml at the patient, rate_per_min) implies for subject ``s``."""
+def _paco2(s: Subject, va: Num) -> Num:
+    """PaCO2 (mmHg) from alveolar ventilation; inf where there is none."""
+    if is_scalar(va):
+        return gas.paco2_mmhg_from_va(s.vco2_ml_min, va, s.body_temp_c) if va > 0 else math.inf
+    import numpy as np
+
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        return np.where(va > 0, gas.paco2_mmhg_from_va(s.vco2_ml_min, va, s.body_temp_c), np.inf)
+
+
+def _evaluation(s: Subject, vt_ml: Num, rate_per_min: Num) -> Evaluation:
+    """The one evaluation: floats give floats; arrays (and a Subject with array fields) give arrays element-wise."""
     exchange = s.exchange_ml(vt_ml)
     va = rate_per_min * exchange
-    paco2 = gas.paco2_mmhg_from_va(s.vco2_ml_min, va, s.body_temp_c) if va > 0 else math.inf
+    paco2 = _paco2(s, va)
     etco2 = paco2 - s.gradient_mmhg
-    ti = float(s.timing.ti_s(rate_per_min))
+    ti = s.timing.ti_s(rate_per_min)
     cycle = 60.0 / rate_per_min
     te = cycle - ti
     plateau, peak, rise = _airway(s, vt_ml, ti)
     compressed = s.compressible_ml_cmh2o * rise if s.mode == "volume" else 0.0
     set_vt = vt_ml + compressed
-    pao2 = _pao2(s, min(paco2, PACO2_CAP_FOR_PAO2_MMHG))
+    pao2 = _pao2(s, smaller(paco2, PACO2_CAP_FOR_PAO2_MMHG))
     tau = s.time_constant_s
     return Evaluation(
-        vt_ml=vt_ml, rate_per_min=rate_per_min, exchange_ml=exchange, alveolar_ml_min=max(va, 0.0),
-        minute_ml_min=vt_ml * rate_per_min, paco2_mmhg=paco2, etco2_mmhg=max(etco2, 0.0),
+        vt_ml=vt_ml, rate_per_min=rate_per_min, exchange_ml=exchange, alveolar_ml_min=larger(va, 0.0),
+        minute_ml_min=vt_ml * rate_per_min, paco2_mmhg=paco2, etco2_mmhg=larger(etco2, 0.0),
         etco2_floored=etco2 < 0, ti_s=ti, te_s=te, ti_fits=ti < MAX_TI_FRACTION * cycle,
         ie_expiratory_part=te / ti, plateau_cmh2o=plateau, peak_cmh2o=peak, inspiratory_pressure_cmh2o=rise,
         compressed_ml=compressed, set_vt_ml=set_vt, inspiratory_flow_l_min=set_vt / 1000.0 / (ti - s.timing.pause_s)
-        * 60.0, te_tau=te / tau, ti_tau=ti / tau, pao2_mmhg=max(pao2, 0.0), pao2_floored=pao2 < 0,
+        * 60.0, te_tau=te / tau, ti_tau=ti / tau, pao2_mmhg=larger(pao2, 0.0), pao2_floored=pao2 < 0,
         peep_cmh2o=s.peep_cmh2o)
+
+
+def evaluate(s: Subject, vt_ml: float, rate_per_min: float) -> Evaluation:
+    """Everything (vt_ml at the patient, rate_per_min) implies for subject ``s``."""
+    return _evaluation(s, vt_ml, rate_per_min)
+
+
+def evaluate_points(s: Subject, vt_ml: Any, rate_per_min: Any) -> Evaluation:
+    """``evaluate`` element by element: arrays of tidal volume and rate (and a Subject whose numbers may be
+    arrays of the same shape, one patient per element, as a sweep over body mass makes). Every field of the
+    result is a numpy array of the common shape, computed by the same code as ``evaluate``."""
+    import numpy as np
+
+    vt = np.asarray(vt_ml, dtype=float)
+    rate = np.asarray(rate_per_min, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        ev = _evaluation(s, vt, rate)
+    shape = np.broadcast_shapes(*(np.shape(getattr(ev, f.name)) for f in fields(ev)))
+    return Evaluation(**{f.name: _spread(getattr(ev, f.name), shape) for f in fields(ev)})
+
+
+def _spread(x: Any, shape: tuple[int, ...]) -> Any:
+    """``x`` as an array of ``shape`` (a read-only view when it has to be broadcast)."""
+    import numpy as np
+
+    return x if isinstance(x, np.ndarray) and x.shape == shape else np.broadcast_to(x, shape)
 
 
 @dataclass(frozen=True)

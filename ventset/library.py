@@ -96,8 +96,8 @@ class Species:
             return r
         ref, b, source = self.rate_scaling
         k = (mass_kg / ref) ** b
-        return Span(r.min * k, r.max * k, r.start * k,
-                    f"{r.source}; at {mass_kg:.3g} kg scaled by (M/{ref:g} kg)^{b:g}: {source}")
+        at = f"at {mass_kg:.3g} kg" if isinstance(mass_kg, int | float) else "at each mass"  # arrays: a sweep
+        return Span(r.min * k, r.max * k, r.start * k, f"{r.source}; {at} scaled by (M/{ref:g} kg)^{b:g}: {source}")
 
     def age_named(self, text: str, mass_kg: float) -> str | None:
         """The age a young alias (puppy, calf, ...) stands for: neonate below the species' neonate mass, else

@@ -390,8 +390,9 @@ class Sensitivity:
     band_mmhg: tuple[float, float]
 
 
-def dead_space_sensitivity(plan: Plan, n: int = 160) -> Sensitivity:
-    """PaCO2 for apparatus dead space x from 0 upwards: the plan's patient with VD_fixed = anatomical + x."""
+def dead_space_sensitivity(plan: Plan, n: int = 160, x_max_ml: float | None = None) -> Sensitivity:
+    """PaCO2 for apparatus dead space x from 0 upwards: the plan's patient with VD_fixed = anatomical + x
+    (up to ``x_max_ml`` when given, so a view that changes the dead space keeps its axis)."""
     from dataclasses import replace
 
     s, v, d = subject_of(plan), plan.ventilation, plan.dead_space
@@ -401,7 +402,7 @@ def dead_space_sensitivity(plan: Plan, n: int = 160) -> Sensitivity:
     target = v.target_paco2_mmhg
     y_max = nice_ceiling(max(2.0 * target, target + 3 * BAND_HALF_WIDTH_MMHG))
     x_at_ymax = room - bare.alveolar_ventilation_ml_min(y_max) / v.rate_per_min
-    x_hi = nice_ceiling(max(x_at_ymax * 1.05, current * 1.3, 1.0))
+    x_hi = nice_ceiling(max(x_at_ymax * 1.05, current * 1.3, 1.0)) if x_max_ml is None else x_max_ml
     x = np.linspace(0.0, x_hi, n)
     va = v.rate_per_min * (room - x)
     with np.errstate(divide="ignore", invalid="ignore"):

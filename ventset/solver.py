@@ -8,8 +8,9 @@ limit that moved it is named; nothing is clamped silently.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
-from ventset.physiology.deadspace import rate_for_alveolar_per_min, vt_for_alveolar_ml
+from ventset.physiology.deadspace import exchange_per_breath_ml, rate_for_alveolar_per_min, vt_for_alveolar_ml
 
 
 @dataclass(frozen=True)
@@ -28,6 +29,80 @@ class Choice:
     preferred_rate_per_min: float
 
 
+# The limits a choice can name, in the order a binding lists them.
+BINDING_ORDER = ("pressure_limit_below_vt_min", "vt_min", "rate_min", "pressure_limit", "vt_max", "rate_max")
+
+
+class _ScalarOps:
+    """The few operations the choice needs, on floats (no numpy: ``ventset plan`` never imports it)."""
+
+    @staticmethod
+    def where(cond: Any, a: Any, b: Any) -> Any:
+        return a if cond else b
+
+    minimum = staticmethod(min)
+
+    @staticmethod
+    def both(a: Any, b: Any) -> Any:
+        return a and b
+
+    @staticmethod
+    def no(a: Any) -> Any:
+        return not a
+
+    rate_for = staticmethod(rate_for_alveolar_per_min)
+
+
+class _ArrayOps:
+    """The same operations element-wise on numpy arrays."""
+
+    def __init__(self) -> None:
+        import numpy as np
+
+        self.np = np
+        self.where, self.minimum, self.both, self.no = np.where, np.minimum, np.logical_and, np.logical_not
+
+    def rate_for(self, va: Any, vt: Any, vd: Any, f_alv: Any) -> Any:
+        eff = exchange_per_breath_ml(vt, vd, f_alv)
+        with self.np.errstate(divide="ignore", invalid="ignore"):
+            return self.np.where(eff > 0, va / eff, self.np.inf)
+
+
+def _choose(va: Any, vd: Any, f_alv: Any, vt_lo: Any, vt_hi: Any, rate_lo: Any, rate_hi: Any, vt_p: Any,
+            pref_vt: Any, pref_rate: Any, ops: Any) -> tuple[Any, Any, Any, dict[str, Any], Any, Any]:
+    """The choice on floats or arrays: (vt, rate, reached, {limit: bound?}, preferred vt, preferred rate)."""
+    where, both, no = ops.where, ops.both, ops.no
+    rate_given = pref_rate is not None
+    if rate_given:
+        pref_vt = vt_for_alveolar_ml(va, pref_rate, vd, f_alv)
+    else:
+        pref_vt = vt_lo if pref_vt is None else pref_vt
+        pref_rate = ops.rate_for(va, pref_vt, vd, f_alv)
+    box_hi = ops.minimum(vt_hi, vt_p)
+    by_pressure = vt_p < vt_hi           # the top of the box is the pressure limit, not the largest usual VT
+    squeezed = box_hi < vt_lo            # the pressure limit allows less than the smallest usual VT
+    vt_lo = where(squeezed, box_hi, vt_lo)
+    vt_at_rate_hi, vt_at_rate_lo = (vt_for_alveolar_ml(va, r, vd, f_alv) for r in (rate_hi, rate_lo))
+    lo_by_rate, hi_by_rate = vt_at_rate_hi > vt_lo, vt_at_rate_lo < box_hi
+    lo, hi = where(lo_by_rate, vt_at_rate_hi, vt_lo), where(hi_by_rate, vt_at_rate_lo, box_hi)
+    ok = lo <= hi
+    at_lo = both(ok, pref_vt < lo)
+    at_hi = both(both(ok, no(at_lo)), pref_vt > hi)
+    moved = where(at_lo, True, at_hi)
+    short = both(no(ok), vt_at_rate_hi > box_hi)   # too little ventilation even at the top of the box
+    over = both(no(ok), no(short))                 # too much even at the bottom
+    vt = where(ok, where(at_lo, lo, where(at_hi, hi, pref_vt)), where(short, box_hi, vt_lo))
+    rate = where(ok, where(both(rate_given, no(moved)), pref_rate, ops.rate_for(va, vt, vd, f_alv)),
+                 where(short, rate_hi, rate_lo))
+    top = where(short, True, both(at_hi, no(hi_by_rate)))
+    flags = {"pressure_limit_below_vt_min": squeezed,
+             "vt_min": where(over, True, both(at_lo, no(lo_by_rate))),
+             "rate_min": where(over, True, both(at_hi, hi_by_rate)),
+             "pressure_limit": both(top, by_pressure), "vt_max": both(top, no(by_pressure)),
+             "rate_max": where(short, True, both(at_lo, lo_by_rate))}
+    return vt, rate, ok, flags, pref_vt, pref_rate
+
+
 def choose_settings(va_ml_min: float, vd_fixed_ml: float, f_alv: float, vt_lo: float, vt_hi: float,
                     rate_lo: float, rate_hi: float, vt_pressure_max: float, preferred_vt: float | None,
                     preferred_rate: float | None) -> Choice:
@@ -36,34 +111,38 @@ def choose_settings(va_ml_min: float, vd_fixed_ml: float, f_alv: float, vt_lo: f
     If no point inside the limits reaches VA, the closest corner is returned with ``reached`` False and the
     limits that bind are named.
     """
-    def vt_at(rate: float) -> float:
-        return vt_for_alveolar_ml(va_ml_min, rate, vd_fixed_ml, f_alv)
+    pref = None if preferred_vt is None else float(preferred_vt)
+    vt, rate, ok, flags, pref_vt, pref_rate = _choose(va_ml_min, vd_fixed_ml, f_alv, vt_lo, vt_hi, rate_lo, rate_hi,
+                                                      vt_pressure_max, pref, preferred_rate, _ScalarOps)
+    return Choice(vt, rate, bool(ok), tuple(b for b in BINDING_ORDER if flags[b]), pref_vt, pref_rate)
 
-    def rate_at(vt: float) -> float:
-        return rate_for_alveolar_per_min(va_ml_min, vt, vd_fixed_ml, f_alv)
 
-    if preferred_rate is not None:
-        pref_rate, pref_vt = preferred_rate, vt_at(preferred_rate)
-    else:
-        pref_vt = float(preferred_vt) if preferred_vt is not None else vt_lo
-        pref_rate = rate_at(pref_vt)
-    box_hi = min(vt_hi, vt_pressure_max)
-    hi_name = "pressure_limit" if vt_pressure_max < vt_hi else "vt_max"
-    binding: list[str] = []
-    if box_hi < vt_lo:
-        binding.append("pressure_limit_below_vt_min")
-        vt_lo = box_hi
-    vt_at_rate_hi, vt_at_rate_lo = vt_at(rate_hi), vt_at(rate_lo)
-    lo, lo_name = (vt_at_rate_hi, "rate_max") if vt_at_rate_hi > vt_lo else (vt_lo, "vt_min")
-    hi, hi_name2 = (vt_at_rate_lo, "rate_min") if vt_at_rate_lo < box_hi else (box_hi, hi_name)
-    if lo <= hi:
-        vt, name = (lo, lo_name) if pref_vt < lo else (hi, hi_name2) if pref_vt > hi else (pref_vt, "")
-        if name:
-            binding.append(name)
-        rate = pref_rate if preferred_rate is not None and not name else rate_at(vt)
-        return Choice(vt, rate, True, tuple(binding), pref_vt, pref_rate)
-    if vt_at_rate_hi > box_hi:  # too little ventilation even at the top of the box
-        binding += [hi_name, "rate_max"]
-        return Choice(box_hi, rate_hi, False, tuple(binding), pref_vt, pref_rate)
-    binding += ["vt_min", "rate_min"]  # too much even at the bottom
-    return Choice(vt_lo, rate_lo, False, tuple(binding), pref_vt, pref_rate)
+@dataclass(frozen=True)
+class Choices:
+    """``choose_settings`` element-wise (numpy arrays); ``flags`` maps each limit to where it bound."""
+
+    vt_ml: Any
+    rate_per_min: Any
+    reached: Any
+    flags: dict[str, Any]
+    preferred_vt_ml: Any
+    preferred_rate_per_min: Any
+
+    def binding_at(self, i: int) -> tuple[str, ...]:
+        """The limits that moved element ``i``, named as ``Choice.binding`` names them."""
+        return tuple(b for b in BINDING_ORDER if bool(self.flags[b].flat[i] if hasattr(self.flags[b], "flat")
+                                                        else self.flags[b]))
+
+
+def choose_settings_arrays(va_ml_min: Any, vd_fixed_ml: Any, f_alv: Any, vt_lo: Any, vt_hi: Any, rate_lo: Any,
+                           rate_hi: Any, vt_pressure_max: Any, preferred_vt: Any, preferred_rate: Any) -> Choices:
+    """``choose_settings`` for arrays of patients (the same rule, the same code, element by element)."""
+    import numpy as np
+
+    ops = _ArrayOps()
+    with np.errstate(divide="ignore", invalid="ignore"):
+        vt, rate, ok, flags, pref_vt, pref_rate = _choose(va_ml_min, vd_fixed_ml, f_alv, vt_lo, vt_hi, rate_lo,
+                                                          rate_hi, vt_pressure_max, preferred_vt, preferred_rate, ops)
+    shape = np.shape(vt)
+    return Choices(vt, rate, np.broadcast_to(ok, shape),
+                   {k: np.broadcast_to(v, shape) for k, v in flags.items()}, pref_vt, pref_rate)

@@ -51,7 +51,8 @@ DEFAULT_SIZE = (1400, 900)
 
 # Panels added by other modules: each defines install(window), called by ventset.gui.app.run() after the
 # window is built (a failing panel is reported on stderr and the planning window still opens).
-EXTENSIONS: tuple[str, ...] = ("ventset.gui.case_ui", "ventset.gui.timeline", "ventset.gui.aquatic_panel")
+EXTENSIONS: tuple[str, ...] = ("ventset.gui.case_ui", "ventset.gui.timeline", "ventset.gui.aquatic_panel",
+                               "ventset.gui.compare_view")
 
 
 def install_extensions(window: MainWindow) -> list[str]:

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import math
 
+from ventset.elementwise import square_root
+
 
 def breath_timing_s(rate_per_min: float, ie_expiratory_part: float) -> tuple[float, float]:
     """Inspiratory and expiratory times (s) for a rate and I:E = 1:E. Ti = (60/f)/(1 + E)."""
@@ -51,7 +53,7 @@ def otis_optimal_rate_per_min(va_l_min: float, vd_l: float, rc_s: float) -> floa
     f = [√(1 + 2a·RC·VA/VD) − 1]/(a·RC), a = 2π²/60, f in /min, VA L/min, VD L, RC s.
     """
     a = 2.0 * math.pi**2 / 60.0
-    return (math.sqrt(1.0 + 2.0 * a * rc_s * va_l_min / vd_l) - 1.0) / (a * rc_s)
+    return (square_root(1.0 + 2.0 * a * rc_s * va_l_min / vd_l) - 1.0) / (a * rc_s)  # float or array
 
 
 def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2o: float,

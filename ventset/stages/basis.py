@@ -46,8 +46,12 @@ class Basis:
 
 def resolve_basis(request: Request, library: Library) -> Basis:
     """Run the stages up to the choice of settings; raises InputError naming the field."""
+    return basis_from_inputs(request, resolve_inputs(request, library), library)
+
+
+def basis_from_inputs(request: Request, inputs: Inputs, library: Library) -> Basis:
+    """The stages after the inputs are resolved (a sweep over body mass passes arrays of masses in ``inputs``)."""
     p, c, t = request.patient, request.circuit, request.targets
-    inputs = resolve_inputs(request, library)
     met, growth, met_notes = metabolism_stage(p, inputs, library)
     target = co2_target_stage(t, inputs)
     dead = dead_space_stage(p, c, inputs, library)

@@ -4,7 +4,9 @@ water-vapour pressure) and, once the settings are known, fresh gas and the reser
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
+from ventset.elementwise import is_scalar, larger
 from ventset.errors import InputError
 from ventset.library import CircuitType, Library
 from ventset.model import Assumption, Circuit, Targets
@@ -15,10 +17,16 @@ from ventset.units import fmt
 BAG_SIZES_L = (0.25, 0.5, 1.0, 2.0, 3.0, 4.0, 5.0, 15.0, 30.0)  # commonly stocked reservoir bags (common practice)
 
 
-def reservoir_bag_l(set_vt_ml: float, multiple: float) -> float:
-    """Smallest stocked bag holding ``multiple`` × the set tidal volume (L); the largest if none does."""
+def reservoir_bag_l(set_vt_ml: Any, multiple: float) -> Any:
+    """Smallest stocked bag holding ``multiple`` × the set tidal volume (L); the largest if none does (float or
+    array)."""
     need = set_vt_ml * multiple / 1000.0
-    return next((b for b in BAG_SIZES_L if b >= need), BAG_SIZES_L[-1])
+    if is_scalar(need):
+        return next((b for b in BAG_SIZES_L if b >= need), BAG_SIZES_L[-1])
+    import numpy as np
+
+    sizes = np.asarray(BAG_SIZES_L)
+    return sizes[np.minimum(np.searchsorted(sizes, need, side="left"), len(sizes) - 1)]
 
 
 @dataclass(frozen=True)
@@ -29,6 +37,28 @@ class BreathingSystem:
     assumptions: tuple[Assumption, ...]
 
 
+def _circuit_rules(mass_kg: Any, lib: Library) -> tuple[tuple[Any, str], ...]:
+    """(mass test, key) in the order they are tried; a mass passing none gets the small-animal circle."""
+    fg = lib.fresh_gas
+    return ((mass_kg < fg["direct_small_patient_below_kg"].value, "direct_small_patient"),
+            (mass_kg < fg["non_rebreathing_below_kg"].value, "non_rebreathing"),
+            (mass_kg > fg["large_animal_circle_above_kg"].value, "rebreathing_large_animal"))
+
+
+def usual_circuit(mass_kg: float, lib: Library) -> str:
+    """The breathing system usually chosen for a body mass (its key)."""
+    return next((key for below, key in _circuit_rules(mass_kg, lib) if below), "rebreathing_small_animal")
+
+
+def usual_circuit_codes(mass_kg: Any, lib: Library) -> tuple[tuple[str, ...], Any]:
+    """``usual_circuit`` for an array of masses: the keys and, per mass, the index of its key."""
+    import numpy as np
+
+    rules = _circuit_rules(np.asarray(mass_kg, dtype=float), lib)
+    return (*(k for _, k in rules), "rebreathing_small_animal"), np.select([r for r, _ in rules],
+                                                                            list(range(len(rules))), len(rules))
+
+
 def circuit_stage(c: Circuit, mass_kg: float, lib: Library) -> BreathingSystem:
     """The circuit entered, or the usual one for the body mass; its compressible volume (mL/cmH2O)."""
     fg = lib.fresh_gas
@@ -37,14 +67,8 @@ def circuit_stage(c: Circuit, mass_kg: float, lib: Library) -> BreathingSystem:
         if c.circuit_type not in lib.circuits:
             raise InputError("circuit", c.circuit_type, f"must be one of {', '.join(lib.circuits)}")
         key = c.circuit_type
-    elif mass_kg < fg["direct_small_patient_below_kg"].value:
-        key = "direct_small_patient"
-    elif mass_kg < fg["non_rebreathing_below_kg"].value:
-        key = "non_rebreathing"
-    elif mass_kg > fg["large_animal_circle_above_kg"].value:
-        key = "rebreathing_large_animal"
     else:
-        key = "rebreathing_small_animal"
+        key = usual_circuit(mass_kg, lib)
     circuit = lib.circuits[key]
     if c.circuit_type is None:
         rule = fg["direct_small_patient_below_kg" if key == "direct_small_patient" else "non_rebreathing_below_kg"]
@@ -100,14 +124,14 @@ def fresh_gas_stage(system: BreathingSystem, mass_kg: float, vo2_ml_min: float, 
     if rebreathing:
         size = "large_animal" if system.key == "rebreathing_large_animal" else "rebreathing"
         maint, induct = fg[f"{size}_maintenance_ml_kg_min"], fg[f"{size}_induction_ml_kg_min"]
-        fresh = max(maint.value * mass_kg, fg["rebreathing_floor_ml_min"].value, min_o2)
-        induction = max(induct.value * mass_kg, fresh)
+        fresh = larger(larger(maint.value * mass_kg, fg["rebreathing_floor_ml_min"].value), min_o2)
+        induction = larger(induct.value * mass_kg, fresh)
         notes = [note("fresh_gas_maintenance", "Fresh gas, maintenance", maint.value, "mL/kg/min", maint.source),
                  note("fresh_gas_induction", "Fresh gas, induction and changes", induct.value, "mL/kg/min",
                       induct.source)]
     else:
         multiple = fg["non_rebreathing_minute_volume_multiple"]
-        fresh = max(multiple.value * minute_ml_min, fg["non_rebreathing_floor_ml_min"].value, min_o2)
+        fresh = larger(larger(multiple.value * minute_ml_min, fg["non_rebreathing_floor_ml_min"].value), min_o2)
         induction = fresh
         notes = [note("fresh_gas_multiple", "Fresh gas, non-rebreathing multiple of minute volume", multiple.value,
                       "× VE", multiple.source)]

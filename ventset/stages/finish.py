@@ -2,6 +2,10 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+from typing import Any
+
+from ventset.elementwise import is_scalar, larger, smaller
 from ventset.evaluate import Evaluation, Subject, evaluate
 from ventset.library import Library
 from ventset.model import (
@@ -33,12 +37,13 @@ def _box(basis: Basis, s: Strategy) -> tuple[float, float, float, float, tuple[A
     sp, lean = basis.inputs.species, basis.inputs.lean_mass_kg
     vt_span, rate_span = sp.tidal_volume_ml_kg, sp.rate_span_for(lean)
     notes = (note("vt_range", "Tidal volume range", f"{fmt(vt_span.min)}–{fmt(vt_span.max)}", "mL/kg", vt_span.source),
-             note("rate_range", "Rate range", f"{fmt(rate_span.min)}–{fmt(rate_span.max)}", "/min", rate_span.source))
+             note("rate_range", "Rate range", f"{fmt(rate_span.min)}–{fmt(rate_span.max)}" if is_scalar(rate_span.min)
+                  else "scaled with each mass", "/min", rate_span.source))
     vt_lo, vt_hi, rate_lo, rate_hi = vt_span.min, vt_span.max, rate_span.min, rate_span.max
     if s.vt_ml_kg is not None:
-        vt_lo, vt_hi = min(vt_lo, s.vt_ml_kg), max(vt_hi, s.vt_ml_kg)
+        vt_lo, vt_hi = smaller(vt_lo, s.vt_ml_kg), larger(vt_hi, s.vt_ml_kg)
     if s.rate_per_min is not None:
-        rate_lo, rate_hi = min(rate_lo, s.rate_per_min), max(rate_hi, s.rate_per_min)
+        rate_lo, rate_hi = smaller(rate_lo, s.rate_per_min), larger(rate_hi, s.rate_per_min)
     return vt_lo * lean, vt_hi * lean, rate_lo, rate_hi, notes
 
 
@@ -50,7 +55,7 @@ def _preferred(basis: Basis, subject: Subject, s: Strategy, va: float) -> tuple[
     if s.name == "least_work":
         f_alv = subject.alveolar_fraction
         rate = mechanics.otis_optimal_rate_per_min(va / (1 - f_alv) / 1000,
-                                                   max(subject.vd_fixed_ml / (1 - f_alv), 1e-9) / 1000,
+                                                   larger(subject.vd_fixed_ml / (1 - f_alv), 1e-9) / 1000,
                                                    subject.time_constant_s)
         return None, rate, (note("otis_rate", "Rate of least work (Otis, Fenn & Rahn 1950)", rate, "/min",
                                  "Otis, Fenn & Rahn 1950 (derived)"),)
@@ -61,23 +66,49 @@ def _preferred(basis: Basis, subject: Subject, s: Strategy, va: float) -> tuple[
     return per_kg * basis.inputs.lean_mass_kg, None, extra
 
 
-def choose_stage(basis: Basis, subject: Subject) -> tuple[Choice, Limits, tuple[Assumption, ...]]:
-    """The settings on the line of the target PaCO2 inside the limits (or as entered, when both are)."""
+@dataclass(frozen=True)
+class ChoiceInputs:
+    """What the choice of settings starts from: the alveolar ventilation to reach (mL/min), the box of usual
+    tidal volumes (mL) and rates widened to what was entered, the pressure ceiling on VT (mL) and the preferred
+    point (floats for a plan; arrays, one patient per element, for a sweep over body mass)."""
+
+    va_ml_min: Any
+    vt_lo_ml: Any
+    vt_hi_ml: Any
+    rate_lo: Any
+    rate_hi: Any
+    vt_pressure_max_ml: Any
+    preferred_vt_ml: Any
+    preferred_rate: Any
+    fixed: bool  # both tidal volume and rate entered: nothing to choose
+    assumptions: tuple[Assumption, ...]
+
+
+def choice_inputs(basis: Basis, subject: Subject) -> ChoiceInputs:
+    """The target line's alveolar ventilation, the box and the preferred point for this basis."""
     s = basis.request.strategy
     va = subject.alveolar_ventilation_ml_min(basis.target.paco2_mmhg)
     vt_lo, vt_hi, rate_lo, rate_hi, notes = _box(basis, s)
     vt_p = basis.mechanics.vt_pressure_max_ml
     if s.vt_ml_kg is not None and s.rate_per_min is not None:
-        vt = s.vt_ml_kg * basis.inputs.lean_mass_kg
-        choice = Choice(vt, s.rate_per_min, False, ("fixed_by_user",), vt, s.rate_per_min)
+        return ChoiceInputs(va, vt_lo, vt_hi, rate_lo, rate_hi, vt_p, s.vt_ml_kg * basis.inputs.lean_mass_kg,
+                            s.rate_per_min, True, notes)
+    pref_vt, pref_rate, extra = _preferred(basis, subject, s, va)
+    return ChoiceInputs(va, vt_lo, vt_hi, rate_lo, rate_hi, vt_p, pref_vt, pref_rate, False, (*notes, *extra))
+
+
+def choose_stage(basis: Basis, subject: Subject) -> tuple[Choice, Limits, tuple[Assumption, ...]]:
+    """The settings on the line of the target PaCO2 inside the limits (or as entered, when both are)."""
+    c = choice_inputs(basis, subject)
+    if c.fixed:
+        choice = Choice(c.preferred_vt_ml, c.preferred_rate, False, ("fixed_by_user",), c.preferred_vt_ml,
+                        c.preferred_rate)
     else:
-        pref_vt, pref_rate, extra = _preferred(basis, subject, s, va)
-        notes += extra
-        choice = choose_settings(va, subject.vd_fixed_ml, subject.alveolar_fraction, vt_lo, vt_hi, rate_lo, rate_hi,
-                                 vt_p, pref_vt, pref_rate)
-    limits = Limits(vt_lo, vt_hi, rate_lo, rate_hi, vt_p, choice.binding, choice.preferred_vt_ml,
-                    choice.preferred_rate_per_min)
-    return choice, limits, notes
+        choice = choose_settings(c.va_ml_min, subject.vd_fixed_ml, subject.alveolar_fraction, c.vt_lo_ml, c.vt_hi_ml,
+                                 c.rate_lo, c.rate_hi, c.vt_pressure_max_ml, c.preferred_vt_ml, c.preferred_rate)
+    limits = Limits(c.vt_lo_ml, c.vt_hi_ml, c.rate_lo, c.rate_hi, c.vt_pressure_max_ml, choice.binding,
+                    choice.preferred_vt_ml, choice.preferred_rate_per_min)
+    return choice, limits, c.assumptions
 
 
 def reached(target_mmhg: float, expected_mmhg: float) -> bool:

@@ -34,7 +34,8 @@ def find_species(library: Library, key: str) -> Species:
     return sp
 
 
-def _mass(request: Request, sp: Species) -> None:
+def check_mass(request: Request, sp: Species) -> None:
+    """The patient's mass must be inside the species' mass range; InputError naming 'mass'."""
     try:
         check_range(request.patient.mass_kg, sp.mass_kg.min, sp.mass_kg.max, "mass", "kg")
     except InputError as err:
@@ -46,7 +47,7 @@ def resolve_inputs(request: Request, library: Library) -> Inputs:
     validate_request(request)
     p, c, s = request.patient, request.circuit, request.strategy
     sp = find_species(library, p.species)
-    _mass(request, sp)
+    check_mass(request, sp)
     notes: list[Assumption] = []
     label = sp.label
     custom = p.custom_species.strip()

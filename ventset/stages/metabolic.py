@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 from ventset.errors import InputError
-from ventset.library import Library
+from ventset.library import Library, Sourced, Species
 from ventset.model import AGES, STATES, Assumption, Metabolism, Patient, Targets
 from ventset.physiology import gas, metabolism
 from ventset.stages.inputs import Inputs
@@ -23,6 +24,27 @@ class Growth:
     estimated: bool  # a group default, not a value measured in the species
 
 
+def _age_limits(sp: Species) -> tuple[tuple[str, Sourced | None], ...]:
+    return (("neonate", sp.neonate_below_kg), ("juvenile", sp.juvenile_below_kg))
+
+
+def age_by_mass(sp: Species, mass_kg: float) -> str:
+    """'neonate', 'juvenile' or 'adult' by the species' mass thresholds."""
+    return next((a for a, lim in _age_limits(sp) if lim is not None and mass_kg < lim.value), "adult")
+
+
+def age_codes(sp: Species, mass_kg: Any) -> tuple[tuple[str, ...], Any]:
+    """``age_by_mass`` for an array of masses: the ages and, per mass, the index of its age."""
+    import numpy as np
+
+    limits = [(a, lim.value) for a, lim in _age_limits(sp) if lim is not None]
+    m = np.asarray(mass_kg, dtype=float)
+    if not limits:
+        return ("adult",), np.zeros(m.shape, dtype=int)
+    return (*(a for a, _ in limits), "adult"), np.select([m < lim for _, lim in limits], list(range(len(limits))),
+                                                         len(limits))
+
+
 def age_stage(p: Patient, inp: Inputs, lib: Library) -> tuple[Growth, tuple[Assumption, ...]]:
     """The patient's age (entered, or by the species' mass thresholds) and its metabolic factor."""
     sp = inp.species
@@ -31,10 +53,9 @@ def age_stage(p: Patient, inp: Inputs, lib: Library) -> tuple[Growth, tuple[Assu
     if age is None and (age := sp.age_named(p.species, inp.mass_kg)) is not None:
         notes.append(note("age", "Age", age, "", f"by the name entered: '{p.species.strip()}'"))
     if age is None:
-        below = (("neonate", sp.neonate_below_kg), ("juvenile", sp.juvenile_below_kg))
-        age = next((a for a, lim in below if lim is not None and inp.mass_kg < lim.value), "adult")
+        age = age_by_mass(sp, inp.mass_kg)
         if age != "adult":
-            lim = dict(below)[age]
+            lim = dict(_age_limits(sp))[age]
             assert lim is not None
             notes.append(note("age", "Age", age, "", f"by body mass: under {fmt(lim.value)} kg ({lim.source})"))
     if age not in AGES:
@@ -94,7 +115,7 @@ def metabolism_stage(p: Patient, inp: Inputs, lib: Library) -> tuple[Metabolism,
         ]
     else:
         power_w = p.metabolic_rate_w
-    if power_w <= 0:
+    if bool((power_w <= 0) if isinstance(power_w, int | float) else (power_w <= 0).any()):
         raise InputError("metabolic-rate", power_w, "must be above 0 W")
     vo2 = metabolism.vo2_ml_min(power_w, rq)
     return (Metabolism(power_w, allometric_w, vo2, rq * vo2, rq, p.metabolic_rate_w is not None), growth,
