@@ -176,7 +176,7 @@ def chart_to_csv(chart: Chart) -> str:
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow(keys)
     for row in chart_rows(chart):
-        writer.writerow(["" if row[k] is None else row[k] if k != "marks" else "; ".join(row[k])  # type: ignore
+        writer.writerow(["" if row[k] is None else row[k] if k != "marks" else "; ".join(row[k])
                          for k in keys])
     return out.getvalue()
 

@@ -181,7 +181,7 @@ def sweep_mass(request: Request, masses_kg: Any, library: Library | None = None)
 
 def _group(request: Request, inputs: Inputs, lib: Library) -> tuple[dict[str, Any], bool]:
     """One breathing system and one age: the stages on ``inputs`` whose masses are an array."""
-    masses = inputs.mass_kg
+    masses: Any = inputs.mass_kg  # an array here (Inputs holds a float in a plan)
     basis = basis_from_inputs(request, inputs, lib)
     subject = basis.subject()
     ci = choice_inputs(basis, subject)

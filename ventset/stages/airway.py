@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 from ventset.errors import InputError
 from ventset.library import Library, Species
@@ -44,8 +45,9 @@ def _anatomical(sp: Species, lean: float) -> tuple[float, Assumption]:
                       f"{sp.anatomical_coefficient_ml}·M^{sp.anatomical_exponent}: {sp.anatomical_source}")
 
 
-def usual_tube(mass_kg: float, lib: Library) -> tuple[float, float]:
-    """The usual tube for a patient of this mass: internal diameter (mm) and length beyond the incisors (cm)."""
+def usual_tube(mass_kg: Any, lib: Library) -> tuple[Any, Any]:
+    """The usual tube for a patient of this mass (kg, a float or an array): internal diameter (mm) and length
+    beyond the incisors (cm)."""
     d = lib.planning
     return (d["usual_tube_id_mm_at_1kg"].value * mass_kg ** d["usual_tube_id_exponent"].value,
             d["usual_tube_beyond_incisors_cm_at_1kg"].value * mass_kg ** d["usual_tube_beyond_incisors_exponent"].value)
