@@ -75,6 +75,35 @@ class Situation:
     cautions: tuple[SituationNote, ...] = ()
 
 
+@dataclass(frozen=True)
+class Applied:
+    """The situations a plan was made for and the combined limits they set (None: no such limit).
+
+    ``co2_factor`` is the factor the plan applied to the CO2 output (``vco2_before_ml_min`` before it);
+    ``co2_stores`` the half-times and re-check times of resources/situations.toml [co2_stores] (minutes).
+    """
+
+    situations: tuple[Situation, ...]
+    co2_factor: float
+    vco2_before_ml_min: float
+    paco2_band_mmhg: tuple[float, float] | None
+    paco2_ceiling_mmhg: float | None
+    peep_min_cmh2o: float | None
+    peep_max_cmh2o: float | None
+    pressure_limit_cmh2o: float | None
+    plateau_limit_cmh2o: float | None
+    driving_limit_cmh2o: float | None
+    co2_stores: dict[str, float]
+
+    @property
+    def keys(self) -> tuple[str, ...]:
+        return tuple(s.key for s in self.situations)
+
+    def labels(self, which: tuple[Situation, ...] | None = None) -> str:
+        """The labels of ``which`` (default: all), joined for a sentence."""
+        return " and ".join(s.label for s in (self.situations if which is None else which))
+
+
 def build_situation(key: str, v: dict[str, Any]) -> Situation:
     """A Situation from the checked values of one [situations.<key>] table."""
     same = {f.name: v[f.name] for f in fields(Situation) if f.name in v}
