@@ -3,8 +3,9 @@
 ``plan`` resolves the inputs, metabolism, CO2 target, dead space, mechanics, breathing system and
 atmosphere into a Basis, applies the patient's situations to it (ventset.stages.situation), chooses the
 settings on the line of equal PaCO2, evaluates them through the one evaluation of a patient at given
-settings (ventset.evaluate), adds oxygen and fresh gas, and attaches the cautions. ``plan_at`` evaluates other settings for the same patient (titration, machine
-dials, a clicked point) without resolving anything again.
+settings (ventset.evaluate), adds oxygen and fresh gas, and attaches the cautions. ``plan_at`` evaluates
+other settings for the same patient (titration, machine dials, a clicked point) without resolving anything
+again.
 """
 
 from __future__ import annotations
