@@ -389,3 +389,27 @@ def test_the_user_guide_explains_every_situation_and_its_codes():
     rule_codes = set(re.findall(r'"([A-Z][A-Z0-9_]{3,})"', src))
     assert "BICARBONATE_CO2_LOAD" in rule_codes  # the scan works
     assert [c for c in sorted(data_codes | rule_codes) if f"| {c} |" not in text] == []
+
+
+def test_the_target_is_the_middle_of_the_band_and_bands_intersect():
+    # raised-icp 35-40 mmHg (from memory; CENTER-TBI mean 38.9); pregnancy 30-35 (from memory; people 28-32).
+    assert plan(dog("raised-icp")).ventilation.target_paco2_mmhg == pytest.approx(37.5)
+    assert plan(dog("pregnancy")).ventilation.target_paco2_mmhg == pytest.approx(32.5)
+    assert plan(dog("pregnancy", "raised-icp")).ventilation.target_paco2_mmhg == pytest.approx(35.0)
+    assert "middle of 35–40" in plan(dog("raised-icp")).assumption("target_paco2").source
+
+
+def test_case_files_keep_the_situations():
+    from ventset import cases
+    from ventset.model import request_to_dict
+
+    stored = json.loads(json.dumps(request_to_dict(dog("laparoscopy", "raised-icp"))))
+    assert cases.request_from_case_dict(stored).patient.situations == ("laparoscopy", "raised-icp")
+    stored["patient"]["situations"] = ["a-later-situation"]
+    request = cases.request_from_case_dict(stored)  # opens; planning it says what is wrong
+    with pytest.raises(InputError) as err:
+        plan(request)
+    assert err.value.key == "situation"
+    stored["patient"]["situations"] = "laparoscopy"  # text, not a list: refused naming the field
+    with pytest.raises(Exception, match="request.patient.situations' must be a list"):
+        cases.request_from_case_dict(stored)

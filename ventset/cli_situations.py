@@ -10,8 +10,9 @@ import argparse
 from ventset.cli_support import print_json
 
 COMBINING = ("Several situations combine: CO2-output and compliance factors multiply; PaCO2 bands and tidal-volume "
-             "ranges overlap (the smallest starting volume); ceilings and limits take the lowest; PEEP at least takes "
-             "the highest, held at the lowest PEEP ceiling; entered values are never changed.")
+             "ranges overlap (aim at the band's middle; the smallest starting volume); ceilings and limits take the "
+             "lowest; PEEP at least takes the highest, held at the lowest PEEP ceiling; entered values are never "
+             "changed.")
 
 
 def register(sub, add_request_options) -> dict:

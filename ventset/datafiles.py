@@ -516,7 +516,7 @@ SITUATION_FIELDS: tuple[Field, ...] = (
     SourcedNumber("compliance_factor", lo=0, hi=2, lo_open=True, required=False, default=None,
                   help="multiplies the estimated compliance (not a measured one)" + _FACTOR_HELP),
     SpanField("paco2_band_mmhg", unit="mmHg", start_key=None, **limits("target-paco2"), required=False,
-              default=None, help="the PaCO2 to aim within; the species' target is moved into it." +
+              default=None, help="the PaCO2 to aim within; the plan aims at its middle." +
                                  _same_as("target-paco2")),
     SourcedNumber("paco2_ceiling_mmhg", unit="mmHg", **limits("target-paco2"), required=False, default=None,
                   help="the highest PaCO2 accepted (permissive hypercapnia)." + _same_as("target-paco2")),
@@ -552,8 +552,9 @@ SITUATION_FIELDS: tuple[Field, ...] = (
 
 SITUATIONS = FileSchema("situations.toml", "the patient's situation: surgery, disease and physiology", doc=(
     "Situations change the starting plan (ventset/stages/situation.py). Several combine this way: CO2-output "
-    "and compliance factors multiply; PaCO2 bands and tidal-volume ranges intersect (the starting tidal volume "
-    "is the smallest start, moved into the range; ranges that do not overlap are refused); ceilings and limits "
+    "and compliance factors multiply; PaCO2 bands and tidal-volume ranges intersect (the target is the middle "
+    "of the band, the starting tidal volume the smallest start moved into the range; ranges that do not overlap "
+    "are refused); ceilings and limits "
     "(PaCO2 ceiling, pressure, plateau and driving-pressure limits, PEEP at most) take the lowest; PEEP at least "
     "and the gradient take the highest, and PEEP is then held at the lowest ceiling; rate factors take the "
     "largest; shifts of the target add. A value the user entered is never changed; a caution says when it "

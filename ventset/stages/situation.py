@@ -5,8 +5,8 @@ How several situations combine (also in resources/SCHEMA.md and DEVELOPERS.md):
 - CO2-output factors multiply ('metabolic' ones scale O2 use too and are not applied to an entered metabolic
   rate; 'absorbed' ones always apply); compliance factors multiply (not on an entered compliance);
 - PaCO2 bands and tidal-volume ranges intersect (ranges that do not overlap are refused, naming both); the
-  target is the species' start plus any shift, moved into the band; the starting tidal volume is the smallest
-  start, moved into the range;
+  target is the middle of the band (the species' start without one), plus any shift, kept inside the band and
+  under the ceiling; the starting tidal volume is the smallest start, moved into the range;
 - ceilings take the lowest (PaCO2 ceiling, pressure, plateau and driving-pressure limits, PEEP at most); PEEP at
   least and the gradient take the highest, then PEEP is held at the lowest ceiling; rate factors take the largest;
 - a value the user entered is never changed (the cautions say when it goes against a situation).
@@ -142,7 +142,8 @@ def _band(chosen: tuple[Situation, ...], attr: str, what: str) -> tuple[tuple[fl
 
 
 def _target(basis: Basis, chosen: tuple[Situation, ...]) -> tuple[Co2Target, Applied, list[Assumption]]:
-    """Target PaCO2 moved into the situations' band (shifted, under the ceiling) and the widest gradient."""
+    """Target PaCO2: the middle of the situations' band, else the species' start (shifted, inside the band, under
+    the ceiling); and the widest gradient."""
     t, sp, base = basis.request.targets, basis.inputs.species, basis.target
     entered_target = t.paco2_mmhg is not None or t.etco2_mmhg is not None
     band, band_pairs = _overlap_or_none(chosen) if entered_target else _band(chosen, "paco2_band_mmhg", "PaCO2")
@@ -158,16 +159,17 @@ def _target(basis: Basis, chosen: tuple[Situation, ...]) -> tuple[Co2Target, App
     if t.paco2_mmhg is None and t.etco2_mmhg is not None:
         target = t.etco2_mmhg + gradient
     elif not entered_target and (band or shifts or ceiling is not None):
-        target = sp.paco2_target_mmhg.start + sum(v.value for _, v in shifts)  # type: ignore[union-attr]
+        start = (band[0] + band[1]) / 2 if band else sp.paco2_target_mmhg.start
+        target = start + sum(v.value for _, v in shifts)  # type: ignore[union-attr]
         if band:
             target = min(max(target, band[0]), band[1])
         if ceiling is not None:
             target = min(target, ceiling)
         if target != base.paco2_mmhg:
             src = _sources([*band_pairs, *shifts, *ceiling_pairs])  # type: ignore[list-item]
-            notes.append(note("target_paco2", "Target PaCO2", target, "mmHg",
-                              f"{sp.paco2_target_mmhg.source} (species start {fmt(sp.paco2_target_mmhg.start)}), "
-                              f"moved for the situation: {src}"))
+            why = (f"the middle of {fmt(band[0])}–{fmt(band[1])} mmHg" if band else
+                   f"the species' start {fmt(sp.paco2_target_mmhg.start)} mmHg ({sp.paco2_target_mmhg.source})")
+            notes.append(note("target_paco2", "Target PaCO2", target, "mmHg", f"{why}, for the situation: {src}"))
     applied = Applied(chosen, 1.0, basis.metabolism.vco2_ml_min, band, ceiling, None, None, None, None, None, {})
     return Co2Target(target, gradient, base.assumptions), applied, notes
 
