@@ -88,7 +88,8 @@ class SituationPicker(QWidget):
         self.list.blockSignals(False)
         lines = [f"{s.label}: {'; '.join(effect_words(s)) or 'cautions only'}"
                  for k in keys if (s := self.library.situations.get(k)) is not None]
-        self.effects.setText("\n".join(lines) if lines else "No situation chosen: planned as a healthy, elective patient.")
+        empty = "No situation chosen: planned as a healthy, elective patient."
+        self.effects.setText("\n".join(lines) if lines else empty)
 
     def mark(self, message: str, theme: Theme) -> None:
         self.error.setText(f"⚠ Situation: {message}" if message else "")
