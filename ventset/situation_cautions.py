@@ -192,13 +192,13 @@ def against_situation(ctx: Any) -> list[Caution]:
     if _over(t.peep_cmh2o, a.peep_max_cmh2o) or _over(t.peep_cmh2o, a.peep_min_cmh2o, below=True):
         out.append(_c("caution", "SITUATION_PEEP", "The entered PEEP {peep_cmh2o} is outside what {situations} "
                       "advise ({range}).", {**labels, "range": _peep_range(a)}, peep_cmh2o=pr.peep_cmh2o))
-    if _over(t.pressure_limit_cmh2o, a.pressure_limit_cmh2o):
+    if a.pressure_limit_cmh2o is not None and _over(t.pressure_limit_cmh2o, a.pressure_limit_cmh2o):
         out.append(_c("caution", "SITUATION_PRESSURE_LIMIT", "The entered pressure limit {entered_cmh2o} is above "
                       "the {limit_cmh2o} advised for {situations}.", labels, entered_cmh2o=pr.pressure_limit_cmh2o,
                       limit_cmh2o=a.pressure_limit_cmh2o))
     for what, value, limit in (("plateau", pr.plateau_cmh2o, a.plateau_limit_cmh2o),
                                ("driving pressure", pr.driving_cmh2o, a.driving_limit_cmh2o)):
-        if _over(value, limit):
+        if limit is not None and _over(value, limit):
             out.append(_c("caution", "SITUATION_PRESSURE", "The {what} {value_cmh2o} is above the {limit_cmh2o} "
                           "limit of {situations}: lower the tidal volume.", {**labels, "what": what},
                           value_cmh2o=value, limit_cmh2o=limit))

@@ -16,9 +16,10 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import replace
+from typing import Any
 
 from ventset.errors import InputError
-from ventset.library import Library
+from ventset.library import Library, Species
 from ventset.model import Assumption, Metabolism, Request
 from ventset.schema import Sourced, Span
 from ventset.situations import Applied, Situation, normal_key
@@ -160,13 +161,13 @@ def _target(basis: Basis, chosen: tuple[Situation, ...]) -> tuple[Co2Target, App
         target = t.etco2_mmhg + gradient
     elif not entered_target and (band or shifts or ceiling is not None):
         start = (band[0] + band[1]) / 2 if band else sp.paco2_target_mmhg.start
-        target = start + sum(v.value for _, v in shifts)  # type: ignore[union-attr]
+        target = start + sum(v.value for _, v in shifts)
         if band:
             target = min(max(target, band[0]), band[1])
         if ceiling is not None:
             target = min(target, ceiling)
         if target != base.paco2_mmhg:
-            src = _sources([*band_pairs, *shifts, *ceiling_pairs])  # type: ignore[list-item]
+            src = _sources([*band_pairs, *shifts, *ceiling_pairs])
             why = (f"the middle of {fmt(band[0])}–{fmt(band[1])} mmHg" if band else
                    f"the species' start {fmt(sp.paco2_target_mmhg.start)} mmHg ({sp.paco2_target_mmhg.source})")
             notes.append(note("target_paco2", "Target PaCO2", target, "mmHg", f"{why}, for the situation: {src}"))
@@ -210,12 +211,12 @@ def _mechanics(basis: Basis, chosen: tuple[Situation, ...]) -> tuple[Mechanics, 
     factors = [(s, s.compliance_factor) for s in chosen if s.compliance_factor is not None]
     if p.compliance_ml_cmh2o is None and factors:
         for _, f in factors:
-            compliance *= f.value  # type: ignore[union-attr]
+            compliance *= f.value
         base = basis.inputs.species.compliance_ml_cmh2o_kg
         notes.append(note("compliance_per_kg", "Respiratory-system compliance per kg", compliance / lean,
                           "mL/cmH2O/kg", f"{fmt(base.value)} ({base.source}) × "
-                          + " × ".join(f"{fmt(f.value)}" for _, f in factors)  # type: ignore[union-attr]
-                          + f" for {_sources(factors)}"))  # type: ignore[arg-type]
+                          + " × ".join(f"{fmt(f.value)}" for _, f in factors)
+                          + f" for {_sources(factors)}"))
     peep, floor, ceiling, peep_notes = _peep(basis, chosen)
     notes += peep_notes
     limit = m.pressure_limit_cmh2o
@@ -242,12 +243,11 @@ def _mechanics(basis: Basis, chosen: tuple[Situation, ...]) -> tuple[Mechanics, 
     return new, limits, notes
 
 
-def _species(basis: Basis, chosen: tuple[Situation, ...], applied: Applied, target_mmhg: float) -> tuple[
-        object, list[Assumption]]:
+def _species(basis: Basis, chosen: tuple[Situation, ...], applied: Applied, target_mmhg: float) -> Species:
     """The species record the solver and the cautions read: the situations' tidal-volume range, highest rate and
     PaCO2 band (the 'usual' band of the cautions: from the band's floor to the ceiling)."""
     sp = basis.inputs.species
-    changes: dict[str, Span] = {}
+    changes: dict[str, Any] = {}
     vt, vt_pairs = _band(chosen, "tidal_volume_ml_kg", "tidal-volume")
     if vt is not None:
         start = min(max(min(v.start for _, v in vt_pairs), vt[0]), vt[1])
@@ -263,7 +263,7 @@ def _species(basis: Basis, chosen: tuple[Situation, ...], applied: Applied, targ
         lo = band[0] if band else u.min
         hi = ceiling if ceiling is not None else band[1] if band else u.max
         changes["paco2_target_mmhg"] = Span(lo, max(hi, lo), target_mmhg, "the chosen situations")
-    return (replace(sp, **changes) if changes else sp), []
+    return replace(sp, **changes) if changes else sp
 
 
 def _trail(old: tuple[Assumption, ...], new: list[Assumption], chosen: tuple[Situation, ...]) -> tuple[
@@ -286,7 +286,7 @@ def apply_situations(basis: Basis, chosen: tuple[Situation, ...], library: Libra
     mech, limits, mech_notes = _mechanics(basis, chosen)
     stores = {k: v.value for k, v in library.co2_stores.items()}
     applied = replace(applied, co2_factor=factor, co2_stores=stores, **limits)
-    species, _ = _species(basis, chosen, applied, target.paco2_mmhg)
+    species = _species(basis, chosen, applied, target.paco2_mmhg)
     inputs = replace(basis.inputs, species=species)
     notes = _trail(basis.assumptions, [*met_notes, *target_notes, *mech_notes], chosen)
     return replace(basis, inputs=inputs, metabolism=met, target=target, mechanics=mech, assumptions=notes,
