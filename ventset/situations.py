@@ -8,10 +8,12 @@ A Situation holds only data; the planner applies it in ``ventset.stages.situatio
 from __future__ import annotations
 
 from dataclasses import dataclass, fields
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from ventset.schema import Sourced, Span
 from ventset.units import fmt
+
+if TYPE_CHECKING:  # the records only hold them; importing the schema here would slow every command's start
+    from ventset.schema import Sourced, Span
 
 MAX_SITUATIONS = 30  # situations on one request (there are fewer in the file; a guard for case files)
 
