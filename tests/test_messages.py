@@ -13,7 +13,15 @@ import pytest
 from ventset import cases
 from ventset.cli import main
 from ventset.errors import DataError, InputError, visible
-from ventset.fields import FIELDS, PARTS_PATH, TEXT_INPUTS, inputs_from_request, parse_field, request_from_inputs
+from ventset.fields import (
+    FIELDS,
+    PARTS_PATH,
+    SITUATIONS_PATH,
+    TEXT_INPUTS,
+    inputs_from_request,
+    parse_field,
+    request_from_inputs,
+)
 from ventset.library import load_library
 from ventset.model import Circuit, Patient, Request, Strategy, Targets
 from ventset.titrate import MEASURED_FIELDS
@@ -72,7 +80,7 @@ def test_parse_field_works_for_any_fieldspec():
 
 def test_every_request_field_has_exactly_one_input_path():
     # The one request builder places inputs by FieldSpec path: a Request field without a path would be lost.
-    paths = [f.path for f in FIELDS.values()] + list(TEXT_INPUTS.values()) + [PARTS_PATH]
+    paths = [f.path for f in FIELDS.values()] + list(TEXT_INPUTS.values()) + [PARTS_PATH, SITUATIONS_PATH]
     declared = [f"{section}.{f.name}" for section, cls in (("patient", Patient), ("circuit", Circuit),
                 ("targets", Targets), ("strategy", Strategy)) for f in dataclasses.fields(cls)]
     assert sorted(paths) == sorted(declared)

@@ -81,7 +81,7 @@ def test_library_from_the_cache_equals_the_library_from_the_files(cache):
     load_library.cache_clear()
     try:
         first = load_library(resource_path("species.toml").parent)  # every file parsed and stored
-        assert len(list(cache.glob("*.json"))) == 4
+        assert len(list(cache.glob("*.json"))) == 5  # species, apparatus, cautions, planning, situations
         load_library.cache_clear()
         second = load_library(resource_path("species.toml").parent)  # now every file comes from the cache
         assert second is not first and second == first

@@ -14,8 +14,9 @@ from datetime import datetime
 
 from ventset.case_model import MAX_EARLIER_PLANS, MAX_TEXT, SCHEMA_VERSION, Case
 from ventset.errors import InputError
-from ventset.fields import FIELDS, TEXT_INPUTS, request_from_inputs
+from ventset.fields import FIELDS, SITUATIONS_KEY, TEXT_INPUTS, request_from_inputs
 from ventset.model import ApparatusPart, Circuit, Patient, Request, Strategy, Targets
+from ventset.situations import MAX_SITUATIONS
 from ventset.textpolicy import MAX_PARTS, bad_character, check_text
 
 
@@ -84,6 +85,8 @@ def field_checker(annotation: str, rule: str = "choice") -> Callable[[object, st
         check = _policy_text(rule)
     elif base == "tuple[ApparatusPart,...]":
         check = _parts
+    elif base == "tuple[str,...]":
+        check = _text_list(rule)
     else:
         raise TypeError(f"case files do not know how to check a field of type {annotation!r}")
     if nullable:
@@ -107,6 +110,19 @@ def _record(cls: type, data: object, where: str) -> dict:
         rule = _TEXT_RULE.get((cls.__name__, name), "choice")
         out[name] = field_checker(str(f.type), rule)(data[name], f"{where}.{name}")
     return out
+
+
+def _text_list(rule: str) -> Callable[[object, str], list[str]]:
+    """A stored list of short texts (the situations), each by the text policy, at most MAX_SITUATIONS."""
+    one = _policy_text(rule)
+
+    def check(value: object, where: str) -> list[str]:
+        if not isinstance(value, list):
+            raise BadField(where, f"must be a list (got {type_name(value)})")
+        if len(value) > MAX_SITUATIONS:
+            raise BadField(where, f"holds more than {MAX_SITUATIONS} entries")
+        return [one(v, f"{where}[{i}]") for i, v in enumerate(value)]
+    return check
 
 
 def _parts(value: object, where: str) -> list[dict]:
@@ -133,6 +149,7 @@ def request_from_case_dict(data: object, where: str = "request") -> Request:
         section, attr = path.split(".", 1)
         values[key] = clean.get(section, {}).get(attr)
     parts = tuple(ApparatusPart(**p) for p in clean.get("circuit", {}).get("parts", ()))
+    values[SITUATIONS_KEY] = clean.get("patient", {}).get("situations")
     request, errors = request_from_inputs(values, parts, check_ranges=False)
     if request is None:
         raise BadField(where, errors[0].message())

@@ -14,6 +14,7 @@ from dataclasses import dataclass, replace
 
 from ventset.library import Library, Species
 from ventset.model import Caution, Plan
+from ventset.situation_cautions import SITUATION_RULES
 
 SEVERITY_ORDER = {"danger": 0, "caution": 1, "info": 2}
 
@@ -427,7 +428,7 @@ RULES: tuple[Callable[[Context], list[Caution]], ...] = (
     short_expiration, driving_pressure, compressible_volume, outside_species_range, limit_moved_the_plan,
     oxygenation, etco2_floor, body_temperature, metabolic_plausibility, peep_high, gradient_unreliable,
     small_patient_capnography, short_inspiration_pressure_mode, mechanics_rough, no_tube_entered, custom_species,
-    thin_data, species_notes,
+    thin_data, species_notes, *SITUATION_RULES,
 )
 
 

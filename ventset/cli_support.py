@@ -10,7 +10,7 @@ import json
 import sys
 
 from ventset.errors import InputError, one_line
-from ventset.fields import FIELDS, request_from_inputs
+from ventset.fields import FIELDS, SITUATIONS_KEY, request_from_inputs
 from ventset.model import AGES, MODES, STATES, STRATEGIES, Request
 
 # The options that fill the request's text inputs: input key → argparse destination.
@@ -52,6 +52,9 @@ def add_request_options(p: argparse.ArgumentParser) -> None:
                         "body mass where the species gives the masses, else adult)")
     p.add_argument("--state", choices=STATES, default="fasted",
                    help="ectotherms (reptiles): fasted, fed (recently eaten) or gravid (default fasted)")
+    p.add_argument("--situation", action="append", default=[], metavar="KEY",
+                   help="the patient's situation (surgery, disease, physiology) such as laparoscopy or raised-icp; "
+                        "repeat for several; 'ventset situations' lists them with their effects")
     for spec in FIELDS.values():
         p.add_argument(f"--{spec.key}", dest=dest(spec.key), metavar="VALUE",
                        help=f"{spec.help} [{_unit_help(spec.unit)}]".replace("%", "%%"))
@@ -69,6 +72,7 @@ def request_from_args(ns: argparse.Namespace, library) -> Request:
 
     values: dict[str, object] = {key: getattr(ns, dest(key)) for key in FIELDS}
     values.update({key: getattr(ns, name) for key, name in TEXT_OPTIONS.items()})
+    values[SITUATIONS_KEY] = list(getattr(ns, "situation", None) or [])
     errors: list[InputError] = []
     parts = []
     for item in ns.apparatus:

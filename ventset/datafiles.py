@@ -16,6 +16,7 @@ from typing import Any
 
 from ventset.datafiles_aquatic import AQUATIC
 from ventset.datafiles_common import below, limits, note_list, same_as, unique_note_codes
+from ventset.datafiles_situations import SITUATIONS
 from ventset.datafiles_validation import VALIDATION
 from ventset.fields import FIELDS
 from ventset.schema import (
@@ -408,10 +409,10 @@ OXYGENATION = FileSchema("oxygenation.toml", "PaO2/FiO2 bands and oxygenation th
 ), checks=(_unique_band_codes,))
 
 
-# aquatic.toml and validation.toml are declared in their own modules (ventset/datafiles_aquatic.py,
-# ventset/datafiles_validation.py); every file is listed here.
+# aquatic.toml, validation.toml and situations.toml are declared in their own modules (datafiles_aquatic.py,
+# datafiles_validation.py, datafiles_situations.py); every file is listed here.
 FILES: dict[str, FileSchema] = {f.name: f for f in (SPECIES, APPARATUS, CAUTIONS, PLANNING, TITRATION, OXYGENATION,
-                                                    AQUATIC, VALIDATION)}
+                                                    AQUATIC, VALIDATION, SITUATIONS)}
 
 PREAMBLE = f"""# Data file reference (resources/*.toml)
 

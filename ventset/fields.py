@@ -111,9 +111,11 @@ TEXT_POLICY = {"species": "species-text", "name": "name", "custom-species": "cus
                "circuit": "choice", "strategy": "choice", "age": "choice", "state": "choice"}
 INPUT_LABELS = {"species": "Species", "name": "Patient name", "custom-species": "Custom species", "mode": "Mode",
                 "circuit": "Circuit type", "strategy": "Strategy", "apparatus": "Apparatus", "age": "Age",
-                "state": "Physiological state"}
+                "state": "Physiological state", "situation": "Situation"}
 PARTS_PATH = "circuit.parts"
-register_labels({"name": "Patient name", "custom-species": "Custom species",
+# The situations (a list of keys, checked against resources/situations.toml by the planner).
+SITUATIONS_KEY, SITUATIONS_PATH = "situations", "patient.situations"
+register_labels({"name": "Patient name", "custom-species": "Custom species", "situation": "Situation",
                  **{k: f.label for k, f in FIELDS.items()}})
 
 
@@ -162,6 +164,22 @@ def validate_request(request: object) -> None:
         if value is not None:
             check_text(TEXT_POLICY[key], value, label=INPUT_LABELS[key])
     _check_parts(get_path(request, "circuit.parts"))
+    _check_situations(get_path(request, SITUATIONS_PATH))
+
+
+def _check_situations(keys: object) -> tuple[str, ...]:
+    """A list of situation keys: text by the text policy, at most MAX_SITUATIONS (known keys: the planner)."""
+    from ventset.situations import MAX_SITUATIONS
+
+    if isinstance(keys, str) or not isinstance(keys, tuple | list):
+        raise InputError("situation", type(keys).__name__, "must be a list of situations")
+    check_count("situation", len(keys), MAX_SITUATIONS, "situations")
+    for k in keys:
+        try:
+            check_text("choice", k, label="Situation")
+        except InputError as err:
+            raise InputError("situation", err.value, err.reason) from None
+    return tuple(keys)
 
 
 def _check_parts(parts: object) -> None:
@@ -212,6 +230,10 @@ def request_from_inputs(values: Mapping[str, object], parts: Sequence[ApparatusP
     except InputError as err:
         errors.append(err)
     put(PARTS_PATH, [{"name": p.name, "volume_ml": p.volume_ml, "source": p.source} for p in parts])
+    try:
+        put(SITUATIONS_PATH, _situation_keys(values.get(SITUATIONS_KEY), library))
+    except InputError as err:
+        errors.append(err)
     if errors:
         return None, errors
     request = request_from_dict(data)
@@ -226,6 +248,20 @@ def _age_named(values: Mapping[str, object], mass_kg: float, library) -> str | N
         return None
     sp = library.find_species(typed) if typed.strip() else None
     return sp.age_named(typed, mass_kg) if sp is not None else None
+
+
+def _situation_keys(value: object, library) -> tuple[str, ...]:
+    """The situations as keys (typed 'Raised_ICP' → 'raised-icp'); with a library each must be in it."""
+    from ventset.situations import normal_key
+
+    if value is None:
+        return ()
+    keys = tuple(normal_key(k) for k in _check_situations(value) if k.strip())
+    if library is not None:
+        for key in keys:
+            if key not in library.situations:
+                raise InputError("situation", key, "is not a known situation; run 'ventset situations' for the list")
+    return tuple(dict.fromkeys(keys))
 
 
 def _text_input(key: str, value: object, library) -> str | None:
@@ -253,4 +289,5 @@ def inputs_from_request(request: Request) -> tuple[dict[str, object], tuple[Appa
     """The inverse of :func:`request_from_inputs`: every input of ``request`` by key (None when not entered)."""
     values: dict[str, object] = {spec.key: get_path(request, spec.path) for spec in FIELDS.values()}
     values.update({key: get_path(request, path) for key, path in TEXT_INPUTS.items()})
+    values[SITUATIONS_KEY] = tuple(get_path(request, SITUATIONS_PATH))  # type: ignore[arg-type]
     return values, tuple(request.circuit.parts)

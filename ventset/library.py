@@ -16,6 +16,7 @@ from ventset.errors import DataError
 from ventset.parsecache import parse_toml
 from ventset.resources import resource_dir, resource_path
 from ventset.schema import Sourced, SourcedNumber, Span, Where
+from ventset.situations import Situation, build_situation
 
 __all__ = ["SEVERITIES", "GROUPS", "Sourced", "Span", "Note", "Group", "Species", "Part", "CircuitType", "Library",
            "load_library", "load_resource", "load_resource_file", "parse_species", "parse_apparatus",
@@ -146,6 +147,8 @@ class Library:
     species_version: str = ""
     cautions: dict[str, Sourced] = field(default_factory=dict)
     planning: dict[str, Sourced] = field(default_factory=dict)
+    situations: dict[str, Situation] = field(default_factory=dict)
+    co2_stores: dict[str, Sourced] = field(default_factory=dict)
 
     def find_species(self, text: str) -> Species | None:
         """Species by key, label or alias (exact first, then a unique partial match)."""
@@ -280,7 +283,13 @@ def _load_library(folder: Path) -> Library:
     return Library(species=species, groups=groups, parts=parts, circuits=circuits, fresh_gas=fresh,
                    species_version=sp["data_version"],
                    cautions=dict(load_resource("cautions.toml", folder)["thresholds"]),
-                   planning=dict(load_resource("planning.toml", folder)["defaults"]))
+                   planning=dict(load_resource("planning.toml", folder)["defaults"]),
+                   **_situations(load_resource("situations.toml", folder)))
+
+
+def _situations(v: dict[str, Any]) -> dict[str, Any]:
+    return {"situations": {k: build_situation(k, s) for k, s in v["situations"].items()},
+            "co2_stores": dict(v["co2_stores"])}
 
 
 # Tests and the GUI clear the cache through the public function; mypy has no way to declare an attribute set on

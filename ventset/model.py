@@ -50,6 +50,8 @@ class Patient:
     custom_species: str = ""
     age: str | None = None    # "neonate", "juvenile" or "adult" (AGES); None: by the species' mass thresholds
     state: str = "fasted"     # ectotherms: "fasted", "fed" or "gravid" (STATES)
+    # The patient's situations (keys of resources/situations.toml: surgery, disease, physiology), applied in order.
+    situations: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -282,8 +284,11 @@ def request_from_dict(data: dict) -> Request:
     """Rebuild a Request from ``request_to_dict`` output (raises TypeError/KeyError on bad shape)."""
     circuit = dict(data.get("circuit") or {})
     circuit["parts"] = tuple(ApparatusPart(**p) for p in circuit.get("parts", ()))
+    patient = dict(data["patient"])
+    if "situations" in patient:
+        patient["situations"] = tuple(patient["situations"])
     return Request(
-        patient=Patient(**data["patient"]),
+        patient=Patient(**patient),
         circuit=Circuit(**circuit),
         targets=Targets(**(data.get("targets") or {})),
         strategy=Strategy(**(data.get("strategy") or {})),

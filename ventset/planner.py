@@ -1,10 +1,11 @@
 """Request → Plan: the planner as a short pipeline of named stages (ventset.stages).
 
 ``plan`` resolves the inputs, metabolism, CO2 target, dead space, mechanics, breathing system and
-atmosphere into a Basis, chooses the settings on the line of equal PaCO2, evaluates them through the
-one evaluation of a patient at given settings (ventset.evaluate), adds oxygen and fresh gas, and
-attaches the cautions. ``plan_at`` evaluates other settings for the same patient (titration, machine
-dials, a clicked point) without resolving anything again.
+atmosphere into a Basis, applies the patient's situations to it (ventset.stages.situation), chooses the
+settings on the line of equal PaCO2, evaluates them through the one evaluation of a patient at given
+settings (ventset.evaluate), adds oxygen and fresh gas, and attaches the cautions. ``plan_at`` evaluates
+other settings for the same patient (titration, machine dials, a clicked point) without resolving anything
+again.
 """
 
 from __future__ import annotations
@@ -16,9 +17,9 @@ from ventset.library import Library, load_library
 from ventset.model import Plan, Request
 from ventset.physiology.deadspace import exchange_per_breath_ml as breath_alveolar_ml
 from ventset.solver import Choice, choose_settings
-from ventset.stages.basis import resolve_basis
 from ventset.stages.circuit import reservoir_bag_l
 from ventset.stages.finish import choose_stage, finish
+from ventset.stages.situation import situation_basis
 from ventset.stages.timing import default_ti_s
 
 __all__ = ["Choice", "breath_alveolar_ml", "choose_settings", "default_ti_s", "paco2_grid", "plan", "plan_at",
@@ -31,7 +32,7 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     Raises InputError naming the field for any input outside its hard limits.
     """
     lib = library or load_library()
-    basis = resolve_basis(request, lib)
+    basis = situation_basis(request, lib)  # resolve_basis, then the patient's situations (if any)
     subject = basis.subject()
     choice, limits, notes = choose_stage(basis, subject)
     return finish(basis, subject, choice, limits, lib, notes)

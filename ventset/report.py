@@ -11,6 +11,7 @@ from ventset import __version__
 from ventset.model import STRATEGY_LABELS, Caution, Plan, Resolved
 from ventset.present.quantities import MMHG, Units
 from ventset.present.rows import assumption_value, derived_sections, one_line, patient_line, setting_rows
+from ventset.present.situations import situation_rows, situations_to_dict
 
 
 @overload
@@ -99,6 +100,7 @@ def plan_to_dict(plan: Plan) -> dict:
         "limits": {"vt_min_ml": _num(lim.vt_min_ml), "vt_max_ml": _num(lim.vt_max_ml),
                    "rate_min_per_min": _num(lim.rate_min_per_min), "rate_max_per_min": _num(lim.rate_max_per_min),
                    "vt_pressure_max_ml": _num(lim.vt_pressure_max_ml), "binding": list(lim.binding)},
+        "situations": situations_to_dict(plan),
         "cautions": cautions_to_json(plan.cautions),
         "assumptions": [{"key": a.key, "name": a.name, "value": a.value, "unit": a.unit, "source": a.source}
                         for a in plan.assumptions],
@@ -120,6 +122,9 @@ def plan_to_text(plan: Plan, gas_unit: str | Units = "mmHg") -> str:
     for title, rows in derived_sections(plan, units):
         lines += ["", title.upper()]
         lines += [f"  {row.name:<36}{row.text}" + (f"  ({row.detail})" if row.detail else "") for row in rows]
+    situations = situation_rows(plan, units)
+    if situations:
+        lines += ["", "SITUATIONS", *(f"  {row.name}: {row.text}" for row in situations)]
     lines += ["", "CAUTIONS", *caution_lines(plan.cautions, units), "", "ASSUMPTIONS"]
     lines += [f"  {a.name}: {assumption_value(a, units)} — {a.source}" for a in plan.assumptions]
     lines += ["", "NOTICE: " + plan.standing_notice]

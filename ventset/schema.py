@@ -24,7 +24,8 @@ SOURCE_HELP = ('a citation ("Authors Year"), "common practice" for a rule of thu
                'or "from memory" when that is all it is')
 UPPER_SNAKE = r"[A-Z][A-Z0-9]*(_[A-Z0-9]+)*"
 LOWER_SNAKE = r"[a-z][a-z0-9]*(_[a-z0-9]+)*"
-_PATTERN_WORDS = {UPPER_SNAKE: "UPPER_SNAKE", LOWER_SNAKE: "lower_snake"}
+LOWER_KEBAB = r"[a-z][a-z0-9]*(-[a-z0-9]+)*"
+_PATTERN_WORDS = {UPPER_SNAKE: "UPPER_SNAKE", LOWER_SNAKE: "lower_snake", LOWER_KEBAB: "lower-kebab"}
 
 
 @dataclass(frozen=True)

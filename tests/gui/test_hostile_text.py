@@ -39,6 +39,13 @@ def _rendered(text: str) -> str:
     return doc.toPlainText()
 
 
+def _columns(model) -> int:
+    try:
+        return model.columnCount()
+    except TypeError:  # a list widget's model keeps columnCount private: it has one column
+        return 1
+
+
 def markup_problems(root: QWidget) -> list[str]:
     """Every place under ``root`` where a hostile name would be rendered as markup."""
     problems = []
@@ -62,7 +69,7 @@ def markup_problems(root: QWidget) -> list[str]:
         if isinstance(w, QAbstractItemView) and w.model() is not None:
             model = w.model()
             for r in range(model.rowCount()):
-                for c in range(model.columnCount()):
+                for c in range(_columns(model)):
                     tip = model.index(r, c).data(Qt.ItemDataRole.ToolTipRole) or ""
                     if any(h in tip for h in HOSTILE) and GuiQt.mightBeRichText(tip):
                         problems.append(f"cell tooltip {tip[:40]!r}")

@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
 from ventset.errors import InputError
 from ventset.fields import FIELDS, FieldSpec
 from ventset.gui import formstate as fs
+from ventset.gui.situations import SituationPicker
 from ventset.gui.text import esc, plain, plain_tip
 from ventset.gui.theme import DAY, Theme, scaled_font
 from ventset.library import Library
@@ -558,6 +559,16 @@ class InputForm(QWidget):
         self.custom_edit.textEdited.connect(
             lambda t: self._push({"custom_species": t}, "Name custom species", ("custom", self._session)))
         self.custom_edit.editingFinished.connect(self._seal)
+        self.situations = SituationPicker(self.library, box)
+        tip = ("Surgery, disease or physiology that changes the plan (several at once): each one's effects and "
+               "sources appear in the plan's assumptions and cautions.")
+        lab = plain(QLabel("Situation (tick any)", box))
+        lab.setBuddy(self.situations.list)
+        lab.setToolTip(tip)
+        grid.addWidget(lab, self._r, 0, 1, 3)
+        grid.addWidget(self.situations, self._r + 1, 0, 1, 3)
+        self._r += 2
+        self.situations.changed.connect(lambda keys: self._push({"situations": keys}, "Change situations"))
 
     def _circuit_header(self, box: QGroupBox, grid: QGridLayout) -> None:
         self.mode_combo = QComboBox(box)
@@ -732,6 +743,8 @@ class InputForm(QWidget):
             self.strategy_combo.setCurrentIndex(max(0, self.strategy_combo.findData(s[k])))
         elif k == "parts":
             self.parts_editor.show_parts(s[k])
+        elif k == "situations":
+            self.situations.show_keys(s[k])
 
     # ---------------------------------------------------------------- from the controller
     def load_request(self, request: Request) -> None:
@@ -780,6 +793,7 @@ class InputForm(QWidget):
         self.species_error.setVisible(bool(reason))
         self.species_error.setStyleSheet(f"color: {t.danger}; font-weight: bold;" if reason else "")
         self.parts_editor.mark(marks.get("parts", ""), t)
+        self.situations.mark(marks.get("situations", ""), t)
 
     def invalid_keys(self) -> set[str]:
         return set(self._errors)
@@ -841,4 +855,6 @@ class InputForm(QWidget):
             self.species.setFocus()
         elif key == "parts":
             self.parts_editor.table.setFocus()
+        elif key == "situations":
+            self.situations.list.setFocus()
 

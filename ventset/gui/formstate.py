@@ -7,7 +7,7 @@ The state is a flat dict so that one undo command can restore any part of it:
   switching kg → lb → kg or loading a case changes no underlying number;
 * ``choice:target`` / ``choice:timing`` which member of an either-or pair is used;
 * ``species``, ``custom_species``, ``name``, ``mode``, ``circuit``, ``strategy``, ``parts``
-  (a tuple of (name, volume text, source)).
+  (a tuple of (name, volume text, source)), ``situations`` (a tuple of situation keys).
 
 Fields come from ventset.fields.FIELDS; nothing about a field is declared here a second time.
 """
@@ -18,7 +18,7 @@ import dataclasses
 import re
 
 from ventset.errors import InputError
-from ventset.fields import FIELDS, TEXT_INPUTS, get_path, parse_field, request_from_inputs
+from ventset.fields import FIELDS, SITUATIONS_KEY, TEXT_INPUTS, get_path, parse_field, request_from_inputs
 from ventset.library import Library
 from ventset.model import ApparatusPart, Patient, Request
 from ventset.units import convert, fmt, parse_quantity
@@ -108,7 +108,7 @@ def blank_state(units: dict[str, str] | None = None) -> dict:
     """Every key present, every field empty, units from ``units`` (else the first choice)."""
     units = units or {}
     state: dict = {"species": "", "custom_species": "", "name": "", "mode": "", "circuit": "",
-                   "strategy": "volume_first", "parts": ()}
+                   "strategy": "volume_first", "parts": (), "situations": ()}
     for key, spec in FIELDS.items():
         state[TEXT + key] = ""
         state[UNIT + key] = units.get(key, spec.units[0])
@@ -126,7 +126,8 @@ def state_from_request(request: Request, units: dict[str, str], library: Library
     state.update(species=sp.key if sp else p.species, name=p.name, mode=c.mode or "",
                  circuit=c.circuit_type or "", strategy=s.name,
                  custom_species=getattr(p, "custom_species", "") or "",
-                 parts=tuple((x.name, edit_text(x.volume_ml), x.source, x.volume_ml) for x in c.parts))
+                 parts=tuple((x.name, edit_text(x.volume_ml), x.source, x.volume_ml) for x in c.parts),
+                 situations=tuple(p.situations))
     defaults = _dataclass_defaults()
     for key, spec in FIELDS.items():
         try:
@@ -179,7 +180,8 @@ def request_from_state(state: dict, library: Library) -> tuple[Request | None, l
     values: dict[str, object] = {"species": state.get("species", ""), "name": state.get("name", ""),
                                  "custom-species": state.get("custom_species", "").strip(),
                                  "mode": state.get("mode") or None, "circuit": state.get("circuit") or None,
-                                 "strategy": state.get("strategy") or "volume_first"}
+                                 "strategy": state.get("strategy") or "volume_first",
+                                 SITUATIONS_KEY: list(state.get("situations", ()))}
     for key in FIELDS:
         if not is_active(state, key):
             continue
@@ -209,6 +211,8 @@ def error_key(err: InputError) -> str | None:
     """Which form element an InputError belongs to: its key when the form has such an element, else None."""
     if err.key in ("apparatus", "part-name", "part-source"):
         return "parts"  # the parts editor
+    if err.key == "situation":
+        return "situations"  # the situations chooser
     if err.key in FIELDS or err.key in OTHER_KEYS:
         return err.key
     return None

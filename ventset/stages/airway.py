@@ -100,6 +100,9 @@ class Mechanics:
     peep_cmh2o: float
     pressure_limit_cmh2o: float
     assumptions: tuple[Assumption, ...]
+    # Limits a situation adds (ventset.stages.situation): plateau pressure and driving pressure (cmH2O).
+    plateau_limit_cmh2o: float = math.inf
+    driving_limit_cmh2o: float = math.inf
 
     @property
     def time_constant_s(self) -> float:
@@ -107,8 +110,10 @@ class Mechanics:
 
     @property
     def vt_pressure_max_ml(self) -> float:
-        """Largest tidal volume whose plateau stays at the limit: (limit − PEEP)·C."""
-        return (self.pressure_limit_cmh2o - self.peep_cmh2o) * self.compliance_ml_cmh2o
+        """Largest tidal volume whose plateau stays at the limits: min(limit − PEEP, plateau limit − PEEP,
+        driving limit)·C."""
+        rise = min(self.pressure_limit_cmh2o, self.plateau_limit_cmh2o) - self.peep_cmh2o
+        return min(rise, self.driving_limit_cmh2o) * self.compliance_ml_cmh2o
 
 
 def mechanics_stage(p: Patient, t: Targets, inp: Inputs) -> Mechanics:

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 from ventset.evaluate import Subject, TimingRule
 from ventset.library import Library
 from ventset.model import Assumption, Metabolism, Request
+from ventset.situations import Applied
 from ventset.stages.airway import AirwayDeadSpace, Mechanics, dead_space_stage, mechanics_stage
 from ventset.stages.circuit import Atmosphere, BreathingSystem, atmosphere_stage, circuit_stage
 from ventset.stages.inputs import Inputs, resolve_inputs
@@ -30,6 +31,7 @@ class Basis:
     timing: TimingRule
     typical_ti_source: str
     assumptions: tuple[Assumption, ...]
+    situations: Applied | None = None  # what the patient's situations changed (ventset.stages.situation)
 
     def subject(self, vco2_ml_min: float | None = None) -> Subject:
         """The resolved patient for the evaluator (optionally with a measured CO2 output, mL/min)."""
