@@ -435,7 +435,11 @@ OXYGENATION = FileSchema("oxygenation.toml", "PaO2/FiO2 bands and oxygenation th
 ), checks=(_unique_band_codes,))
 
 
-FILES: dict[str, FileSchema] = {f.name: f for f in (SPECIES, APPARATUS, CAUTIONS, PLANNING, TITRATION, OXYGENATION)}
+# machines.toml is declared in ventset/machines/filedecl.py (this module is at its size limit).
+from ventset.machines.filedecl import MACHINES  # noqa: E402
+
+FILES: dict[str, FileSchema] = {f.name: f for f in (SPECIES, APPARATUS, CAUTIONS, PLANNING, TITRATION, OXYGENATION,
+                                                    MACHINES)}
 
 PREAMBLE = f"""# Data file reference (resources/*.toml)
 
