@@ -13,6 +13,7 @@ from ventset.present.phrases import render
 
 if TYPE_CHECKING:
     from ventset.evaluate import Evaluation, Subject
+    from ventset.machines.result import MachineSettings
     from ventset.present.quantities import Units
     from ventset.stages.basis import Basis
 
@@ -72,6 +73,8 @@ class Circuit:
     compressible_ml_cmh2o: float | None = None
     mode: str | None = None
     sampling_ml_min: float = 0.0
+    machine: str | None = None  # a ventilator class key (resources/machines.toml); None: ideal settings only
+    oxygen_supply_l: float | None = None  # free oxygen left in the supply (L); None: a full usual cylinder
 
 
 @dataclass(frozen=True)
@@ -88,6 +91,7 @@ class Targets:
     altitude_m: float = 0.0
     barometric_mmhg: float | None = None
     ti_s: float | None = None
+    duration_min: float | None = None  # planned duration, for the oxygen supply check (machines.toml default)
 
 
 @dataclass(frozen=True)
@@ -263,6 +267,8 @@ class Plan:
     basis: Basis | None = None
     subject: Subject | None = None
     evaluation: Evaluation | None = None
+    # The plan dialled on the chosen machine class (ventset.machines), None when no machine was chosen.
+    machine: MachineSettings | None = None
 
     def assumption(self, key: str) -> Assumption | None:
         """The assumption recorded under ``key`` (e.g. 'anatomical_dead_space'), or None."""
