@@ -15,7 +15,7 @@ from ventset.model import AGES, MODES, STATES, STRATEGIES, Request
 
 # The options that fill the request's text inputs: input key → argparse destination.
 TEXT_OPTIONS = {"species": "species", "name": "name", "custom-species": "custom_species", "mode": "mode",
-                "circuit": "circuit", "strategy": "strategy", "age": "age", "state": "state"}
+                "circuit": "circuit", "strategy": "strategy", "age": "age", "state": "state", "machine": "machine"}
 
 
 def say(message: str) -> None:
@@ -52,6 +52,8 @@ def add_request_options(p: argparse.ArgumentParser) -> None:
                         "body mass where the species gives the masses, else adult)")
     p.add_argument("--state", choices=STATES, default="fasted",
                    help="ectotherms (reptiles): fasted, fed (recently eaten) or gravid (default fasted)")
+    p.add_argument("--machine", metavar="KEY",
+                   help="a ventilator class (see 'ventset machines'): the plan is also dialled on its controls")
     for spec in FIELDS.values():
         p.add_argument(f"--{spec.key}", dest=dest(spec.key), metavar="VALUE",
                        help=f"{spec.help} [{_unit_help(spec.unit)}]".replace("%", "%%"))
@@ -70,6 +72,8 @@ def request_from_args(ns: argparse.Namespace, library) -> Request:
     values: dict[str, object] = {key: getattr(ns, dest(key)) for key in FIELDS}
     values.update({key: getattr(ns, name) for key, name in TEXT_OPTIONS.items()})
     errors: list[InputError] = []
+    if values.get("machine"):
+        values["machine"] = _machine_key(str(values["machine"]), errors)
     parts = []
     for item in ns.apparatus:
         try:
@@ -81,6 +85,17 @@ def request_from_args(ns: argparse.Namespace, library) -> Request:
     if request is None or errors:
         raise errors[0]
     return request
+
+
+def _machine_key(text: str, errors: list[InputError]) -> str:
+    """The class key for what was typed after --machine (a key, a label or a unique part of one)."""
+    from ventset.machines.stage import find_machine
+
+    try:
+        return find_machine(text).key
+    except InputError as err:
+        errors.append(err)
+        return text
 
 
 def option_error(err: InputError, option: str) -> InputError:

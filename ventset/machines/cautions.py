@@ -12,25 +12,16 @@ import math
 from collections.abc import Callable
 
 from ventset.cautions import caution
-from ventset.machines.data import Control
 from ventset.machines.dial import Setting
 from ventset.machines.result import MachineSettings
 from ventset.model import Caution, Plan
-from ventset.units import fmt
 
 Rule = Callable[[MachineSettings, Plan, dict[str, float]], list[Caution]]
 
 
-def wanted(c: Control, x: float) -> str:
-    """A value a control would need, to three significant figures with its unit ('0.21 mL', '1:5.6')."""
-    if c.unit == "1:E":
-        return f"1:{fmt(x)}"
-    return f"{fmt(x)}/min" if c.unit == "/min" else f"{fmt(x)} {c.unit}"
-
-
 def _range_words(s: Setting, label: str) -> dict[str, str]:
     c = s.control
-    return {"machine": label, "control": c.label, "needed": wanted(c, s.ideal), "lo": c.shown(c.min),
+    return {"machine": label, "control": c.label, "needed": c.wanted(s.ideal), "lo": c.shown(c.min),
             "hi": c.shown(c.max), "setting": c.shown(s.value)}
 
 

@@ -17,6 +17,7 @@ from ventset.machines.filedecl import on_grid
 from ventset.machines.kinds import BREATHS
 from ventset.resources import resource_dir
 from ventset.schema import Sourced
+from ventset.units import fmt
 
 # Control unit → factor to the core's unit of that quantity (volumes to mL; everything else is already core).
 _TO_CORE = {"mL": 1.0, "L": 1000.0, "L/min": 1.0, "/min": 1.0, "s": 1.0, "cmH2O": 1.0, "1:E": 1.0}
@@ -78,11 +79,18 @@ class Control:
         """A setting as the dial shows it ('0.8', '17', '5.5'), with the step's decimals."""
         return f"{value:.{self.decimals}f}"
 
+    def wanted(self, value: float) -> str:
+        """A value the control would need (not a setting): three significant figures with the unit."""
+        return self._with_unit(fmt(value))
+
     def shown(self, value: float) -> str:
         """A setting with its unit: '0.8 s', '17/min', '1:2', '5.5 L'."""
+        return self._with_unit(self.text(value))
+
+    def _with_unit(self, number: str) -> str:
         if self.unit == "1:E":
-            return f"1:{self.text(value)}"
-        return f"{self.text(value)}/min" if self.unit == "/min" else f"{self.text(value)} {self.unit}"
+            return f"1:{number}"
+        return f"{number}/min" if self.unit == "/min" else f"{number} {self.unit}"
 
 
 @dataclass(frozen=True)
@@ -130,15 +138,17 @@ class Machines:
     supplies: dict[str, Supply]
     thresholds: dict[str, Sourced]
 
-    def find(self, text: str) -> MachineClass | None:
-        """A class by key or label (any case), else by a unique part of its key or label; None otherwise."""
+    def matches(self, text: str) -> list[MachineClass]:
+        """The class whose key or label is ``text`` (any case), else every class with it in its key or label."""
         t = text.strip().lower()
         if not t:
-            return None
-        for m in self.classes.values():
-            if t in (m.key, m.label.lower()):
-                return m
-        hits = [m for m in self.classes.values() if t in m.key or t in m.label.lower()]
+            return []
+        exact = [m for m in self.classes.values() if t in (m.key, m.label.lower())]
+        return exact or [m for m in self.classes.values() if t in m.key or t in m.label.lower()]
+
+    def find(self, text: str) -> MachineClass | None:
+        """A class by key or label (any case), else by a unique part of its key or label; None otherwise."""
+        hits = self.matches(text)
         return hits[0] if len(hits) == 1 else None
 
 

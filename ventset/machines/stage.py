@@ -24,11 +24,13 @@ from ventset.stages.trail import note
 
 def find_machine(key: str, machines: Machines | None = None) -> MachineClass:
     """The class for a key or label (or a unique part of one); InputError naming 'machine' otherwise."""
-    ms = machines or load_machines()
-    found = ms.find(key)
-    if found is None:
+    hits = (machines or load_machines()).matches(key)
+    if len(hits) > 1:
+        raise InputError("machine", key, f"matches {len(hits)} ventilator classes ({', '.join(m.key for m in hits)}); "
+                                         "give one key")
+    if not hits:
         raise InputError("machine", key, "is not a ventilator class; run 'ventset machines' for the list")
-    return found
+    return hits[0]
 
 
 # ventset.planner.plan_at, handed in by the planner (this module does not import the planner: no cycle).
