@@ -48,11 +48,11 @@ def machine_outcome_rows(plan: Plan, units: Units = MMHG) -> list[Row]:
     return [
         Row("machine_vt", "Tidal volume at the patient", *split(ev.vt_ml, "volume"),
             f"{show(ev.vt_ml / lean, 'ml_kg')}; {' '.join(parts)}"),
-        Row("machine_breath", "Breath as dialled", show(ev.rate_per_min, "rate"), "",
+        Row("machine_breath", "Breath as dialled", *split(ev.rate_per_min, "rate"),
             f"Ti {show(ev.ti_s, 'seconds')} · Te {show(ev.te_s, 'seconds')} · I:E {ie_text(ev.ie_expiratory_part)}"),
-        Row("machine_paco2", "Expected PaCO2 as dialled", gas_or_none(ev.paco2_mmhg, units), "",
+        Row("machine_paco2", "Expected PaCO2 as dialled", *_gas(ev.paco2_mmhg, units),
             f"ideal settings {gas_or_none(v.expected_paco2_mmhg, units)}"),
-        Row("machine_etco2", "Expected EtCO2 as dialled", gas_or_none(ev.etco2_mmhg, units), "",
+        Row("machine_etco2", "Expected EtCO2 as dialled", *_gas(ev.etco2_mmhg, units),
             f"ideal settings {gas_or_none(v.expected_etco2_mmhg, units)}"),
         Row("machine_peak", "Peak airway pressure", *split(ev.peak_cmh2o, "cmh2o"),
             f"plateau {show(ev.plateau_cmh2o, 'cmh2o')}, PEEP {show(ev.peep_cmh2o, 'cmh2o')}"),
@@ -61,3 +61,8 @@ def machine_outcome_rows(plan: Plan, units: Units = MMHG) -> list[Row]:
         Row("machine_supply", "Oxygen supply lasts", supply, "",
             f"{o.supply_label} ({show(o.content_l, 'litre')}); planned {show(o.planned_min, 'minutes')}"),
     ]
+
+
+def _gas(mmhg: float, units: Units) -> tuple[str, str]:
+    """(number, unit) of a gas pressure, or the words for no alveolar ventilation."""
+    return split(mmhg, "gas", units) if math.isfinite(mmhg) else (gas_or_none(mmhg, units), "")
