@@ -131,3 +131,20 @@ def test_bad_supply_and_duration_are_refused_naming_the_field(capsys):
     assert capsys.readouterr().err.startswith("ventset: --oxygen-supply")
     assert main(["plan", "--species", "dog", "--mass", "20", "--duration", "-1 h"]) == 2
     assert capsys.readouterr().err.startswith("ventset: --duration")
+
+
+def test_case_with_a_machine_round_trips_and_one_without_keeps_its_layout(tmp_path):
+    from ventset import cases
+    from ventset.library import load_library
+    from ventset.model import Circuit, Patient, Request, Targets, request_to_dict
+
+    lib = load_library()
+    plain = request_to_dict(Request(Patient("dog", 20.0)))
+    assert "machine" not in plain["circuit"] and "duration_min" not in plain["targets"]
+    req = Request(Patient("dog", 20.0), Circuit(machine="bellows_ascending", oxygen_supply_l=400.0),
+                  Targets(duration_min=90.0))
+    path = tmp_path / "dog.ventcase"
+    cases.save_case(path, cases.case_for_request(req, lib))
+    loaded = cases.load_case(path).case
+    assert loaded.request == req
+    assert json.loads(path.read_text())["plan"]["machine"]["key"] == "bellows_ascending"

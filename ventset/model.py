@@ -279,9 +279,18 @@ class Plan:
         return max((c.severity for c in self.cautions), key=order.__getitem__, default="info")
 
 
+# Keys added after case schema 1 that are written only when set, so a case without them keeps that layout.
+_WRITTEN_WHEN_SET = {"circuit": ("machine", "oxygen_supply_l"), "targets": ("duration_min",)}
+
+
 def request_to_dict(request: Request) -> dict:
-    """Plain dict of a request (for case files and JSON)."""
-    return asdict(request)
+    """Plain dict of a request (for case files and JSON); the ventilator keys only when set."""
+    data = asdict(request)
+    for section, keys in _WRITTEN_WHEN_SET.items():
+        for key in keys:
+            if data[section].get(key) is None:
+                data[section].pop(key, None)
+    return data
 
 
 def request_from_dict(data: dict) -> Request:

@@ -101,7 +101,7 @@ def _machine_block(plan: Plan) -> dict:
         return {}
     from ventset.machines.output import machine_to_dict
 
-    return {"machine": {**machine_to_dict(plan.machine),
+    return {"machine": {**machine_to_dict(plan.machine, json_number),
                         "assumptions": [{"key": a.key, "name": a.name, "value": a.value, "unit": a.unit,
                                          "source": a.source} for a in plan.machine.assumptions]}}
 

@@ -596,7 +596,7 @@ class InputForm(QWidget):
         self.machine_combo = QComboBox(box)
         self.machine_combo.setObjectName("machine")
         compact(self.machine_combo)
-        self.machine_combo.addItem("None (ideal settings only)", "")
+        self.machine_combo.addItem("No ventilator chosen (ideal settings only)", "")
         for m in load_machines().classes.values():
             self.machine_combo.addItem(m.label, m.key)
             self.machine_combo.setItemData(self.machine_combo.count() - 1, plain_tip(m.description),

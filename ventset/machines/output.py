@@ -2,15 +2,10 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 from ventset.machines.data import Control, MachineClass
 from ventset.machines.result import MachineSettings
-
-
-def _num(x: float) -> float | None:
-    from ventset.report import json_number
-
-    value = json_number(float(x))
-    return value if isinstance(value, float) else None
 
 
 def control_to_dict(c: Control) -> dict:
@@ -26,9 +21,11 @@ def class_to_dict(m: MachineClass) -> dict:
             "controls": [control_to_dict(c) for c in m.controls]}
 
 
-def machine_to_dict(ms: MachineSettings) -> dict:
-    """The "machine" block of the plan JSON: the controls as dialled and what they give."""
+def machine_to_dict(ms: MachineSettings, number: Callable[[float], object]) -> dict:
+    """The "machine" block of the plan JSON: the controls as dialled and what they give. ``number`` is
+    ventset.report.json_number (rounded, None when not finite); handed in so this module does not import it."""
     m, ev, dv, o = ms.machine, ms.evaluation, ms.delivery, ms.oxygen
+    _num = number
     return {
         "key": m.key, "name": m.label, "class": m.key, "breath": m.breath,
         "controls": [{"name": s.control.label, "control": s.control.kind, "value": s.value, "unit": s.control.unit,
