@@ -22,7 +22,7 @@ from ventset.machines import physics
 from ventset.machines.data import Control, MachineClass
 from ventset.model import Limits, Plan
 
-SOLVE_STEPS = 50  # bisection halvings: 2^-50 of the bracket, far below any control's step
+SOLVE_STEPS = 36  # bisection halvings: 2^-36 (1.5e-11) of the bracket, far below any control's step
 # Two settings whose PaCO2 differ by less than this (mmHg) are equally good; the one nearer the ideal is taken
 # (half the 1 mmHg a capnograph or blood-gas analyser resolves; derived from common practice).
 PACO2_EQUAL_MMHG = 0.5
@@ -195,16 +195,16 @@ def _solve_sizing(rig: Rig, c: Control, d: dict[str, float], aim_mmhg: float) ->
     return bisect(minus_paco2, -aim_mmhg, lo, hi, log=True)
 
 
-def _score(dv: Delivery, aim_mmhg: float, steps_away: float, limits: Limits) -> tuple[bool, int, float, float]:
-    """Lower is better: a breath that fits its cycle, then one inside the plan's limits (the species' usual tidal
-    volume and rate, the pressure limit), a PaCO2 within PACO2_EQUAL_MMHG of the aim, then the setting fewest
-    steps from the ideal."""
+def _score(dv: Delivery, aim_mmhg: float, steps_away: float, limits: Limits) -> tuple[bool, float, int, float]:
+    """Lower is better: a breath that fits its cycle, then a PaCO2 within PACO2_EQUAL_MMHG of the aim, then one
+    inside the plan's limits (the species' usual tidal volume and rate, the pressure limit), then the setting
+    fewest steps from the ideal."""
     ev = dv.evaluation
     miss = abs(ev.paco2_mmhg - aim_mmhg) if math.isfinite(ev.paco2_mmhg) else math.inf
     outside = ((not limits.vt_min_ml * (1 - 1e-9) <= ev.vt_ml <= limits.vt_max_ml * (1 + 1e-9))
                + (not limits.rate_min_per_min * (1 - 1e-9) <= ev.rate_per_min <= limits.rate_max_per_min * (1 + 1e-9))
                + (ev.peak_cmh2o > dv.subject.pressure_limit_cmh2o + 1e-9))
-    return (not ev.ti_fits or bool(dv.cycling), outside, max(miss - PACO2_EQUAL_MMHG, 0.0), steps_away)
+    return (not ev.ti_fits or bool(dv.cycling), max(miss - PACO2_EQUAL_MMHG, 0.0), outside, steps_away)
 
 
 def _neighbours(c: Control, x: float) -> list[float]:
@@ -235,7 +235,7 @@ def dial(plan: Plan, rig: Rig) -> Dialled:
     assert sizing is not None  # the schema requires it
     settings = _shape(m, ideal_controls(rig, plan), sizing)
     alt = next((c for c in m.controls if c.kind in ("rate", "te") and c is not sizing), None)
-    best: tuple[tuple[bool, int, float, float], dict[str, float], float, Delivery] | None = None
+    best: tuple[tuple[bool, float, int, float], dict[str, float], float, Delivery] | None = None
     for a in _neighbours(alt, settings[alt.kind].ideal) if alt is not None else [math.nan]:
         d = {k: s.control.to_core(s.value) for k, s in settings.items()}
         if alt is not None:
