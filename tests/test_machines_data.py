@@ -148,3 +148,17 @@ def test_case_with_a_machine_round_trips_and_one_without_keeps_its_layout(tmp_pa
     loaded = cases.load_case(path).case
     assert loaded.request == req
     assert json.loads(path.read_text())["plan"]["machine"]["key"] == "bellows_ascending"
+
+
+def test_machines_ranks_the_classes_for_a_patient(capsys):
+    # A 25 g mouse: only the small-patient classes reach it without danger; the large-animal bellows is last-ish.
+    assert main(["machines", "--species", "mouse", "--mass", "25 g", "--json"]) == 0
+    ranked = json.loads(capsys.readouterr().out)
+    keys = [r["key"] for r in ranked]
+    assert keys[0] in ("piston_small_patient", "pressure_small_patient")
+    dangers = [sum(c["severity"] == "danger" for c in r["cautions"]) for r in ranked]
+    assert dangers == sorted(dangers) and dangers[0] == 0
+    assert any(c["code"] == "MACHINE_PATIENT_TOO_SMALL" for c in ranked[keys.index("bellows_large_animal")]["cautions"])
+    assert main(["machines", "--species", "mouse", "--mass", "25 g"]) == 0
+    out = capsys.readouterr().out
+    assert "NOTICE:" in out and " inf " not in out

@@ -80,3 +80,18 @@ def machine_stage(plan: Plan, library: Library, plan_at: EvaluateAt) -> Plan:
         return plan
     ms = on_machine(plan, find_machine(key), library, plan_at)
     return replace(plan, machine=ms, cautions=sort_cautions([*plan.cautions, *ms.cautions]))
+
+
+def rank_classes(plan: Plan, library: Library, plan_at: EvaluateAt, machines: Machines | None = None
+                 ) -> list[MachineSettings]:
+    """Every class with ``plan`` dialled on it, best first: fewest dangers, then fewest cautions from the machine,
+    then the smallest move of the expected PaCO2 from the ideal."""
+    mlib = machines or load_machines()
+    found = [on_machine(plan, m, library, plan_at, mlib) for m in mlib.classes.values()]
+
+    def key(ms: MachineSettings) -> tuple[int, int, float]:
+        sev = [c.severity for c in ms.cautions]
+        shift = abs(ms.expected_paco2_mmhg - ms.aim_paco2_mmhg)
+        return sev.count("danger"), sev.count("caution"), shift if shift == shift else float("inf")
+
+    return sorted(found, key=key)
