@@ -17,7 +17,8 @@ __all__ = ["build_parser", "main", "print_json", "request_from_args", "run_demo"
 # Modules that add subcommands: each defines register(sub, add_request_options) -> {name: handler},
 # and may define extend_plan(p_plan) (extra `plan` options) and after_plan(ns, request, plan).
 EXTENSIONS: tuple[str, ...] = ("ventset.cli_cases", "ventset.cli_titrate", "ventset.aquatic.cli",
-                              "ventset.cli_validate", "ventset.cli_compare", "ventset.cli_situations")
+                              "ventset.cli_validate", "ventset.cli_compare", "ventset.cli_situations",
+                              "ventset.cli_machines")
 
 
 class _Parser(argparse.ArgumentParser):

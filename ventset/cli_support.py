@@ -15,7 +15,7 @@ from ventset.model import AGES, MODES, STATES, STRATEGIES, Request
 
 # The options that fill the request's text inputs: input key → argparse destination.
 TEXT_OPTIONS = {"species": "species", "name": "name", "custom-species": "custom_species", "mode": "mode",
-                "circuit": "circuit", "strategy": "strategy", "age": "age", "state": "state"}
+                "circuit": "circuit", "strategy": "strategy", "age": "age", "state": "state", "machine": "machine"}
 
 
 def say(message: str) -> None:
@@ -55,6 +55,8 @@ def add_request_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--situation", action="append", default=[], metavar="KEY",
                    help="the patient's situation (surgery, disease, physiology) such as laparoscopy or raised-icp; "
                         "repeat for several; 'ventset situations' lists them with their effects")
+    p.add_argument("--machine", metavar="KEY",
+                   help="a ventilator class (see 'ventset machines'): the plan is also dialled on its controls")
     for spec in FIELDS.values():
         p.add_argument(f"--{spec.key}", dest=dest(spec.key), metavar="VALUE",
                        help=f"{spec.help} [{_unit_help(spec.unit)}]".replace("%", "%%"))
@@ -74,6 +76,8 @@ def request_from_args(ns: argparse.Namespace, library) -> Request:
     values.update({key: getattr(ns, name) for key, name in TEXT_OPTIONS.items()})
     values[SITUATIONS_KEY] = list(getattr(ns, "situation", None) or [])
     errors: list[InputError] = []
+    if values.get("machine"):
+        values["machine"] = _machine_key(str(values["machine"]), errors)
     parts = []
     for item in ns.apparatus:
         try:
@@ -85,6 +89,17 @@ def request_from_args(ns: argparse.Namespace, library) -> Request:
     if request is None or errors:
         raise errors[0]
     return request
+
+
+def _machine_key(text: str, errors: list[InputError]) -> str:
+    """The class key for what was typed after --machine (a key, a label or a unique part of one)."""
+    from ventset.machines.stage import find_machine
+
+    try:
+        return find_machine(text).key
+    except InputError as err:
+        errors.append(err)
+        return text
 
 
 def option_error(err: InputError, option: str) -> InputError:

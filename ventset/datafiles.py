@@ -409,10 +409,12 @@ OXYGENATION = FileSchema("oxygenation.toml", "PaO2/FiO2 bands and oxygenation th
 ), checks=(_unique_band_codes,))
 
 
-# aquatic.toml, validation.toml and situations.toml are declared in their own modules (datafiles_aquatic.py,
-# datafiles_validation.py, datafiles_situations.py); every file is listed here.
+# aquatic.toml, validation.toml, situations.toml and machines.toml are declared in their own modules
+# (datafiles_aquatic.py, datafiles_validation.py, datafiles_situations.py, machines/filedecl.py).
+from ventset.machines.filedecl import MACHINES  # noqa: E402
+
 FILES: dict[str, FileSchema] = {f.name: f for f in (SPECIES, APPARATUS, CAUTIONS, PLANNING, TITRATION, OXYGENATION,
-                                                    AQUATIC, VALIDATION, SITUATIONS)}
+                                                    AQUATIC, VALIDATION, SITUATIONS, MACHINES)}
 
 PREAMBLE = f"""# Data file reference (resources/*.toml)
 

@@ -100,18 +100,25 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
               "Tidal volume per kg lean mass to start from. Default: species start value.", group="strategy"),
     FieldSpec("rate", "Rate", "strategy.rate_per_min", "1/min", ("1/min",), 0.5, 300.0,
               "Breath rate to hold; tidal volume then follows from the target.", group="strategy"),
+    FieldSpec("oxygen-supply", "Oxygen left in the supply", "circuit.oxygen_supply_l", "L", ("L",), 0.0, 1e6,
+              "Free oxygen (litres at room pressure) left for fresh gas and a ventilator's driving gas: a full "
+              "cylinder's content × gauge pressure ÷ full pressure. Default: a full cylinder of the size usual for "
+              "the ventilator class.", group="circuit"),
+    FieldSpec("duration", "Planned duration", "targets.duration_min", "min", ("min", "h"), 0.0, 2880.0,
+              "How long the anaesthetic is planned to last; the oxygen supply is checked against it. Default 2 h.",
+              group="targets"),
 )}
 
 # The inputs that are not numbers, by key: where each goes in a Request, and its text rule (ventset.textpolicy).
 TEXT_INPUTS: dict[str, str] = {"species": "patient.species", "name": "patient.name",
                                "custom-species": "patient.custom_species", "mode": "circuit.mode",
                                "circuit": "circuit.circuit_type", "strategy": "strategy.name",
-                               "age": "patient.age", "state": "patient.state"}
+                               "age": "patient.age", "state": "patient.state", "machine": "circuit.machine"}
 TEXT_POLICY = {"species": "species-text", "name": "name", "custom-species": "custom-species", "mode": "choice",
-               "circuit": "choice", "strategy": "choice", "age": "choice", "state": "choice"}
+               "circuit": "choice", "strategy": "choice", "age": "choice", "state": "choice", "machine": "choice"}
 INPUT_LABELS = {"species": "Species", "name": "Patient name", "custom-species": "Custom species", "mode": "Mode",
                 "circuit": "Circuit type", "strategy": "Strategy", "apparatus": "Apparatus", "age": "Age",
-                "state": "Physiological state", "situation": "Situation"}
+                "state": "Physiological state", "situation": "Situation", "machine": "Ventilator class"}
 PARTS_PATH = "circuit.parts"
 # The situations (a list of keys, checked against resources/situations.toml by the planner).
 SITUATIONS_KEY, SITUATIONS_PATH = "situations", "patient.situations"
@@ -268,7 +275,7 @@ def _text_input(key: str, value: object, library) -> str | None:
     if value is None:
         return "volume_first" if key == "strategy" else None
     text = check_text(TEXT_POLICY[key], value, label=INPUT_LABELS[key])
-    if key in ("mode", "circuit") and not text:
+    if key in ("mode", "circuit", "machine") and not text:
         return None
     if key == "strategy" and not text:
         return "volume_first"

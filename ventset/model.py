@@ -13,6 +13,7 @@ from ventset.present.phrases import render
 
 if TYPE_CHECKING:
     from ventset.evaluate import Evaluation, Subject
+    from ventset.machines.result import MachineSettings
     from ventset.present.quantities import Units
     from ventset.stages.basis import Basis
 
@@ -74,6 +75,8 @@ class Circuit:
     compressible_ml_cmh2o: float | None = None
     mode: str | None = None
     sampling_ml_min: float = 0.0
+    machine: str | None = None  # a ventilator class key (resources/machines.toml); None: ideal settings only
+    oxygen_supply_l: float | None = None  # free oxygen left in the supply (L); None: a full usual cylinder
 
 
 @dataclass(frozen=True)
@@ -90,6 +93,7 @@ class Targets:
     altitude_m: float = 0.0
     barometric_mmhg: float | None = None
     ti_s: float | None = None
+    duration_min: float | None = None  # planned duration, for the oxygen supply check (machines.toml default)
 
 
 @dataclass(frozen=True)
@@ -265,6 +269,8 @@ class Plan:
     basis: Basis | None = None
     subject: Subject | None = None
     evaluation: Evaluation | None = None
+    # The plan dialled on the chosen machine class (ventset.machines), None when no machine was chosen.
+    machine: MachineSettings | None = None
 
     def assumption(self, key: str) -> Assumption | None:
         """The assumption recorded under ``key`` (e.g. 'anatomical_dead_space'), or None."""
@@ -275,9 +281,18 @@ class Plan:
         return max((c.severity for c in self.cautions), key=order.__getitem__, default="info")
 
 
+# Keys added after case schema 1 that are written only when set, so a case without them keeps that layout.
+_WRITTEN_WHEN_SET = {"circuit": ("machine", "oxygen_supply_l"), "targets": ("duration_min",)}
+
+
 def request_to_dict(request: Request) -> dict:
-    """Plain dict of a request (for case files and JSON)."""
-    return asdict(request)
+    """Plain dict of a request (for case files and JSON); the ventilator keys only when set."""
+    data = asdict(request)
+    for section, keys in _WRITTEN_WHEN_SET.items():
+        for key in keys:
+            if data[section].get(key) is None:
+                data[section].pop(key, None)
+    return data
 
 
 def request_from_dict(data: dict) -> Request:

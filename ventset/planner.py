@@ -35,7 +35,12 @@ def plan(request: Request, library: Library | None = None) -> Plan:
     basis = situation_basis(request, lib)  # resolve_basis, then the patient's situations (if any)
     subject = basis.subject()
     choice, limits, notes = choose_stage(basis, subject)
-    return finish(basis, subject, choice, limits, lib, notes)
+    ideal = finish(basis, subject, choice, limits, lib, notes)
+    if not request.circuit.machine:
+        return ideal
+    from ventset.machines.stage import machine_stage
+
+    return machine_stage(ideal, lib, plan_at)
 
 
 def plan_at(base: Plan, vt_ml: float, rate_per_min: float, library: Library | None = None,

@@ -104,7 +104,33 @@ def plan_to_dict(plan: Plan) -> dict:
         "cautions": cautions_to_json(plan.cautions),
         "assumptions": [{"key": a.key, "name": a.name, "value": a.value, "unit": a.unit, "source": a.source}
                         for a in plan.assumptions],
+        **_machine_block(plan),
     }
+
+
+def _machine_block(plan: Plan) -> dict:
+    """{"machine": ...} when a ventilator class was chosen (docs/plan-json.md), else nothing."""
+    if plan.machine is None:
+        return {}
+    from ventset.machines.output import machine_to_dict
+
+    return {"machine": {**machine_to_dict(plan.machine, json_number),
+                        "assumptions": [{"key": a.key, "name": a.name, "value": a.value, "unit": a.unit,
+                                         "source": a.source} for a in plan.machine.assumptions]}}
+
+
+def machine_lines(plan: Plan, units: Units) -> list[str]:
+    """The dial settings under the machine's name, then what they give (empty without a machine)."""
+    from ventset.present.dials import machine_outcome_rows, machine_rows, machine_title
+
+    if plan.machine is None:
+        return []
+    lines = ["", one_line(machine_title(plan)).upper()]
+    lines += [f"  {row.name:<30}{row.text:<14}{row.detail}" for row in machine_rows(plan)]
+    lines += ["  gives:"]
+    lines += [f"    {row.name:<28}{row.text:<14}{row.detail}" for row in machine_outcome_rows(plan, units)]
+    lines += [f"  {a.name}: {assumption_value(a, units)} — {a.source}" for a in plan.machine.assumptions]
+    return lines
 
 
 def plan_to_text(plan: Plan, gas_unit: str | Units = "mmHg") -> str:
@@ -119,6 +145,7 @@ def plan_to_text(plan: Plan, gas_unit: str | Units = "mmHg") -> str:
     lines += [f"  {row.name:<22}{row.text:<16}{row.detail}" for row in setting_rows(plan, units)]
     if not plan.ventilation.target_reached:
         lines.append("  ** TARGET NOT REACHED (see the cautions) **")
+    lines += machine_lines(plan, units)
     for title, rows in derived_sections(plan, units):
         lines += ["", title.upper()]
         lines += [f"  {row.name:<36}{row.text}" + (f"  ({row.detail})" if row.detail else "") for row in rows]

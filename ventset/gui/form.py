@@ -45,14 +45,14 @@ from ventset.units import fmt
 LAYOUT: dict[str, tuple[list[str], list[str]]] = {
     "patient": (["mass", "lean-mass", "body-temperature", "metabolic-rate"],
                 ["rq", "alveolar-dead-space", "compliance", "resistance"]),
-    "circuit": (["tube-id", "tube-length", "compressible-volume"], ["sampling-flow"]),
+    "circuit": (["tube-id", "tube-length", "compressible-volume"], ["sampling-flow", "oxygen-supply", "duration"]),
     "targets": (["target-paco2", "target-etco2", "gradient", "peep", "ie", "ti", "pressure-limit", "fio2",
                  "altitude", "barometric-pressure"], []),
     "strategy": (["vt-per-kg", "rate"], []),
 }
 GROUP_TITLES = {"patient": "Patient", "circuit": "Breathing system", "targets": "Targets",
                 "strategy": "Choosing tidal volume and rate"}
-MORE_TITLES = {"patient": "More: lungs and gas exchange", "circuit": "More: gas sampling"}
+MORE_TITLES = {"patient": "More: lungs and gas exchange", "circuit": "More: gas sampling, oxygen supply"}
 PAIR_LABELS = {"target": "Aim for", "timing": "Timing by"}
 
 # Assumption names in a plan that give the source of a field's default (for the tooltip).
@@ -68,7 +68,8 @@ FIELD_ASSUMPTION = {
 # How a default is shown in an empty field ({} is the number). Grey text = the value in use, not typed.
 DEFAULT_WORD = {"metabolic-rate": "≈ {} (estimate)", "rate": "{} (solved)", "lean-mass": "= body mass",
                 "altitude": "{} (sea level)"}
-NO_DEFAULT = {"mass": "required", "tube-id": "not entered", "tube-length": "not entered"}
+NO_DEFAULT = {"mass": "required", "tube-id": "not entered", "tube-length": "not entered",
+              "oxygen-supply": "a full cylinder", "duration": "2 h"}
 
 
 def compact(combo: QComboBox, chars: int = 10) -> QComboBox:
@@ -593,10 +594,29 @@ class InputForm(QWidget):
                         "by compression.")
         self.circuit_combo.activated.connect(
             lambda i: self._push({"circuit": self.circuit_combo.itemData(i)}, "Change breathing system"))
+        self._machine_row(box, grid)
         self.parts_editor = PartsEditor(self.library, box)
         grid.addWidget(self.parts_editor, self._r, 0, 1, 3)
         self._r += 1
         self.parts_editor.changed.connect(lambda parts: self._push({"parts": parts}, "Change apparatus"))
+
+    def _machine_row(self, box: QGroupBox, grid: QGridLayout) -> None:
+        """The ventilator class the plan is also dialled on (ventset.machines); none: ideal settings only."""
+        from ventset.machines.data import load_machines
+
+        self.machine_combo = QComboBox(box)
+        self.machine_combo.setObjectName("machine")
+        compact(self.machine_combo)
+        self.machine_combo.addItem("No ventilator chosen (ideal settings only)", "")
+        for m in load_machines().classes.values():
+            self.machine_combo.addItem(m.label, m.key)
+            self.machine_combo.setItemData(self.machine_combo.count() - 1, plain_tip(m.description),
+                                           Qt.ItemDataRole.ToolTipRole)
+        self._label_row(box, grid, "Ventilator", self.machine_combo,
+                        "The kind of ventilator in use: the plan is also given as the settings its controls can "
+                        "be turned to, and re-evaluated as dialled.")
+        self.machine_combo.activated.connect(
+            lambda i: self._push({"machine": self.machine_combo.itemData(i)}, "Change ventilator"))
 
     def _strategy_header(self, box: QGroupBox, grid: QGridLayout) -> None:
         self.strategy_combo = QComboBox(box)
@@ -739,6 +759,8 @@ class InputForm(QWidget):
             self.mode_combo.setCurrentIndex(max(0, self.mode_combo.findData(s[k])))
         elif k == "circuit":
             self.circuit_combo.setCurrentIndex(max(0, self.circuit_combo.findData(s[k])))
+        elif k == "machine":
+            self.machine_combo.setCurrentIndex(max(0, self.machine_combo.findData(s[k])))
         elif k == "strategy":
             self.strategy_combo.setCurrentIndex(max(0, self.strategy_combo.findData(s[k])))
         elif k == "parts":

@@ -6,7 +6,7 @@ The state is a flat dict so that one undo command can restore any part of it:
   ``exact:<field>`` an exact value behind a rounded text (after a unit switch or a loaded case), so
   switching kg → lb → kg or loading a case changes no underlying number;
 * ``choice:target`` / ``choice:timing`` which member of an either-or pair is used;
-* ``species``, ``custom_species``, ``name``, ``mode``, ``circuit``, ``strategy``, ``parts``
+* ``species``, ``custom_species``, ``name``, ``mode``, ``circuit``, ``machine``, ``strategy``, ``parts``
   (a tuple of (name, volume text, source)), ``situations`` (a tuple of situation keys).
 
 Fields come from ventset.fields.FIELDS; nothing about a field is declared here a second time.
@@ -108,7 +108,7 @@ def blank_state(units: dict[str, str] | None = None) -> dict:
     """Every key present, every field empty, units from ``units`` (else the first choice)."""
     units = units or {}
     state: dict = {"species": "", "custom_species": "", "name": "", "mode": "", "circuit": "",
-                   "strategy": "volume_first", "parts": (), "situations": ()}
+                   "strategy": "volume_first", "parts": (), "situations": (), "machine": ""}
     for key, spec in FIELDS.items():
         state[TEXT + key] = ""
         state[UNIT + key] = units.get(key, spec.units[0])
@@ -124,7 +124,7 @@ def state_from_request(request: Request, units: dict[str, str], library: Library
     p, c, s = request.patient, request.circuit, request.strategy
     sp = library.find_species(p.species)
     state.update(species=sp.key if sp else p.species, name=p.name, mode=c.mode or "",
-                 circuit=c.circuit_type or "", strategy=s.name,
+                 circuit=c.circuit_type or "", strategy=s.name, machine=c.machine or "",
                  custom_species=getattr(p, "custom_species", "") or "",
                  parts=tuple((x.name, edit_text(x.volume_ml), x.source, x.volume_ml) for x in c.parts),
                  situations=tuple(p.situations))
@@ -180,6 +180,7 @@ def request_from_state(state: dict, library: Library) -> tuple[Request | None, l
     values: dict[str, object] = {"species": state.get("species", ""), "name": state.get("name", ""),
                                  "custom-species": state.get("custom_species", "").strip(),
                                  "mode": state.get("mode") or None, "circuit": state.get("circuit") or None,
+                                 "machine": state.get("machine") or None,
                                  "strategy": state.get("strategy") or "volume_first",
                                  SITUATIONS_KEY: list(state.get("situations", ()))}
     for key in FIELDS:

@@ -261,6 +261,11 @@ class SettingsPanel(QFrame):
         for c in range(4):
             grid.setColumnStretch(c, 1)
         outer.addLayout(grid)
+        from ventset.gui.machine_tiles import MachineStrip
+
+        self.machine = MachineStrip(self, lambda key, name, unit, parent: Tile(key, name, unit, parent, lines=2))
+        self.tiles.update(self.machine.tiles)
+        outer.addWidget(self.machine)
         self.theme = DAY
         self._stale: bool | None = None
         self.set_stale(False)
@@ -317,6 +322,7 @@ class SettingsPanel(QFrame):
         bag_txt = f"; bag {fmt(bag)} L" if bag else ""
         t["fresh_gas"].display("Fresh gas flow", fmt(o.fresh_gas_ml_min / 1000), "L/min",
                                f"{o.circuit_label.split(' (')[0]}{induct}{bag_txt}")
+        self.machine.show_plan(plan, gas_unit)
 
 
 class CautionRow(QFrame):
