@@ -59,6 +59,8 @@ def install_extensions(window: MainWindow) -> list[str]:
     import importlib
     import traceback
 
+    from ventset.gui import access
+
     done = []
     for name in EXTENSIONS:
         try:
@@ -68,6 +70,7 @@ def install_extensions(window: MainWindow) -> list[str]:
             traceback.print_exc()
             continue
         done.append(name)
+    access.apply(window)  # the added panels' inputs named and threaded into the Tab order
     return done
 
 
@@ -114,6 +117,9 @@ class MainWindow(QMainWindow):
         self.controller.set_request(request if request is not None else demo_request(self.library))
         self.controller.flush()
         self.undo.clear()
+        from ventset.gui import access
+
+        access.apply(self)
 
     # ------------------------------------------------------------------ layout
     def _build_central(self) -> None:
@@ -189,7 +195,6 @@ class MainWindow(QMainWindow):
         self.splitter.setStretchFactor(2, 0)
         outer.addWidget(self.splitter, 1)
         self.setCentralWidget(central)
-        self.setTabOrder(self.form, self.cautions)
 
     def _build_menus(self) -> None:
         bar = self.menuBar()
@@ -373,6 +378,8 @@ class MainWindow(QMainWindow):
         app = QApplication.instance()
         if app is not None:
             apply_theme(app, theme)
+        if self.styleSheet() != theme.window_style:
+            self.setStyleSheet(theme.window_style)
         for w in (self.notice, self.status, self.settings_panel, self.cautions, self.form, *self.plot_cards):
             w.set_theme(theme)
         if self.controller.plan is not None:
@@ -423,6 +430,12 @@ class MainWindow(QMainWindow):
             state = self.settings.value(name)
             if isinstance(state, QByteArray | bytes):
                 splitter.restoreState(QByteArray(state))
+
+    def focusNextPrevChild(self, next: bool) -> bool:  # noqa: N802, A002 - Qt override
+        """Tab and Shift+Tab through the panels in reading order (ventset.gui.access)."""
+        from ventset.gui import access
+
+        return access.move_focus(self, next) or super().focusNextPrevChild(next)
 
     def closeEvent(self, event) -> None:  # noqa: N802 - Qt override
         self.settings.setValue("window/geometry", self.saveGeometry())
