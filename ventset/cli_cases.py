@@ -145,6 +145,11 @@ def _cmd_show(ns: argparse.Namespace) -> int:
     return 0
 
 
+def print_case(path: str, gas_unit: str = "mmHg") -> int:
+    """The case's plan as text, as ``ventset show CASE`` (``ventset CASE`` without a display)."""
+    return _cmd_show(argparse.Namespace(case=path, stored=False, summary=False, json=False, gas_unit=gas_unit))
+
+
 def _resolve_part(text: str, clinic: partslib.ClinicLibrary, library):
     def mine(name: str):
         part = clinic.part(name)

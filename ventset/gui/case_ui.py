@@ -223,8 +223,16 @@ class CaseManager(QObject):
         self._put_timeline(case)
         self.controller.set_request(case.request)
         self.controller.flush()
+        self.reset_history()
         self._changed_outside = dirty
         self._refresh_title()
+
+    def reset_history(self) -> None:
+        """A case replaced the one in the window (Open, a restored autosave, New): undo never reaches back into
+        the previous patient."""
+        undo = getattr(self.window, "undo", None)
+        if undo is not None:
+            undo.clear()
 
     def _put_timeline(self, case: cases.Case) -> None:
         if self._timeline_put is None:
@@ -747,16 +755,28 @@ def install(window, *, offer_recovery: bool = True, autosave_folder: Path | None
     menu.insertMenu(first, recent)
     manager.recent_menu = recent
 
+    recent.setToolTipsVisible(True)
+
     def fill_recent() -> None:
         recent.clear()
         paths = cases.recent_files()
-        for p in paths:
-            a = recent.addAction(str(p))
+        for i, (p, label) in enumerate(zip(paths, cases.recent_labels(paths), strict=True)):
+            a = recent.addAction(f"&{i + 1} {label}" if i < 9 else label)
+            a.setToolTip(plain_tip(str(p)))
+            a.setStatusTip(str(p))
+            a.setData(str(p))
             a.triggered.connect(lambda _=False, p=p: manager.open_recent(p))
         if not paths:
             recent.addAction("No recent cases").setEnabled(False)
+            return
+        recent.addSeparator()
+        clear = recent.addAction("Clear the list")
+        clear.setObjectName("act-clear-recent")
+        clear.triggered.connect(lambda: manager._status(cases.clear_recent() or "The list of recent cases is empty "
+                                                        "(the case files are untouched)."))
 
     recent.aboutToShow.connect(fill_recent)
+    manager.fill_recent = fill_recent
     manager.act_save = act("Save case", manager.save, QKeySequence.StandardKey.Save, "act-save")
     manager.act_save_as = act("Save case as…", manager.save_as, QKeySequence("Ctrl+Shift+S"), "act-save-as")
     menu.insertSeparator(first)

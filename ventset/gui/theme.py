@@ -101,6 +101,15 @@ THEMES: dict[str, Theme] = {t.key: t for t in (DAY, NIGHT, HIGH_CONTRAST)}
 SEVERITY_WORD = {"danger": "DANGER", "caution": "CAUTION", "info": "INFO"}
 
 
+def app_icon():
+    """ventset's icon (the SVG shipped in the package, also the desktop entry's) as a QIcon."""
+    from PySide6.QtGui import QIcon
+
+    from ventset.desktop import icon_path
+
+    return QIcon(str(icon_path()))
+
+
 def palette_for(theme: Theme) -> QPalette:
     pal = QPalette()
     c = QColor

@@ -94,6 +94,9 @@ class MainWindow(QMainWindow):
         self.controller = PlanController(self.library, self)
         self.undo = QUndoStack(self)
         self.setWindowTitle("ventset — starting ventilator settings")
+        from ventset.gui.theme import app_icon
+
+        self.setWindowIcon(app_icon())
         self._menus: dict[str, QMenu] = {}
         self._panels: dict[str, QWidget] = {}
 
@@ -221,6 +224,10 @@ class MainWindow(QMainWindow):
             a.setShortcutContext(Qt.ShortcutContext.WindowShortcut)
             edit.addAction(a)
         edit.addSeparator()
+        from ventset.gui import editing
+
+        self.edit_actions = editing.install(self, edit)
+        edit.addSeparator()
         self.act_find = QAction("Find species", self)
         self.act_find.setShortcut(QKeySequence.StandardKey.Find)
         self.act_find.triggered.connect(self._find_species)
@@ -261,11 +268,11 @@ class MainWindow(QMainWindow):
             view.addAction(a)
 
         helpm = self.menu("&Help")
+        from ventset.gui.help_ui import install_help
+
+        install_help(self, helpm)
         a = QAction("Before you start (standing notice)", self)
         a.triggered.connect(self.show_acknowledgement)
-        helpm.addAction(a)
-        a = QAction("About ventset", self)
-        a.triggered.connect(self._about)
         helpm.addAction(a)
         if QGuiApplication.platformName() == "offscreen":
             bar.setNativeMenuBar(False)
@@ -407,15 +414,6 @@ class MainWindow(QMainWindow):
         from ventset.gui.ack import AcknowledgementDialog
 
         AcknowledgementDialog(self, review=True).exec()
-
-    def _about(self) -> None:
-        from PySide6.QtWidgets import QMessageBox
-
-        from ventset import __version__
-
-        QMessageBox.about(self, "About ventset", f"ventset {__version__}: drafts starting ventilator settings for "
-                          "anaesthetised animals from body mass, metabolic rate and the real circuit's dead space. "
-                          "Every number is a starting point to be titrated to monitoring.")
 
     def _restore(self) -> None:
         geo = self.settings.value("window/geometry")
