@@ -1,4 +1,5 @@
-"""Copy resources/ into the package at build time so a normal (non-editable) install finds the data."""
+"""Copy resources/ (and docs/, for Help ▸ User guide) into the package at build time so a normal
+(non-editable) install finds them."""
 
 import shutil
 from pathlib import Path
@@ -14,6 +15,13 @@ class BuildWithResources(build_py):
         target.mkdir(parents=True, exist_ok=True)
         for f in Path(__file__).parent.joinpath("resources").glob("*.toml"):
             shutil.copy2(f, target / f.name)
+        docs = Path(self.build_lib) / "ventset" / "_docs"
+        (docs / "images").mkdir(parents=True, exist_ok=True)
+        source = Path(__file__).parent / "docs"
+        for f in source.glob("*.md"):
+            shutil.copy2(f, docs / f.name)
+        for f in source.joinpath("images").glob("*.png"):
+            shutil.copy2(f, docs / "images" / f.name)
 
 
 setup(cmdclass={"build_py": BuildWithResources})

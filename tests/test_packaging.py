@@ -36,10 +36,15 @@ def test_non_editable_install_finds_data(tmp_path):
     assert r.returncode == 0, r.stderr
     env = {**os.environ, "PYTHONPATH": str(target)}
     code = ("import json, ventset, ventset.resources as r; from ventset.library import load_library; "
+            "from ventset.desktop import icon_path; "
             "lib = load_library(); print(json.dumps([ventset.__file__, str(r.resource_path('species.toml')), "
-            "len(lib.species)]))")
+            "len(lib.species), str(r.docs_dir()), str(icon_path())]))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env, cwd=tmp_path)
     assert out.returncode == 0, out.stderr
-    module_file, data_file, n = json.loads(out.stdout)
+    module_file, data_file, n, docs, icon = json.loads(out.stdout)
     assert module_file.startswith(str(target)) and data_file.startswith(str(target))
     assert n >= 25
+    # Help ▸ User guide and the desktop icon work from an installed copy too (no checkout beside it)
+    assert docs.startswith(str(target)) and (Path(docs) / "user-guide.md").is_file()
+    assert all((Path(docs) / "images" / p.name).is_file() for p in (ROOT / "docs" / "images").glob("*.png"))
+    assert icon.startswith(str(target)) and Path(icon).read_text().lstrip().startswith("<?xml")

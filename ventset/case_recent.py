@@ -56,3 +56,21 @@ def remove_recent(path: os.PathLike | str) -> str:
         return _write_recent([p for p in recent_files() if p != target and p != target.absolute()])
     except (OSError, ValueError) as exc:
         return f"the list of recent cases was not updated ({type(exc).__name__})"
+
+
+def clear_recent() -> str:
+    """Empty the recent-files list (the case files themselves are untouched); returns a warning ('' if none)."""
+    return _write_recent([])
+
+
+def recent_labels(paths: list[Path]) -> list[str]:
+    """What the recent-files menu shows for each path: the file name, with its folder's name added where two
+    entries would otherwise read the same (the full path is the menu entry's tooltip)."""
+    from ventset.errors import visible
+
+    names = [p.name for p in paths]
+    out = []
+    for p, name in zip(paths, names, strict=True):
+        label = f"{name} — {p.parent.name or p.parent}" if names.count(name) > 1 else name
+        out.append(visible(label, 120))
+    return out

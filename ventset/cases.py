@@ -39,7 +39,13 @@ from ventset.case_model import (
 )
 from ventset.case_reading import BadField, case_from_v1, request_from_case_dict
 from ventset.case_reading import field_checker as _field_checker
-from ventset.case_recent import RECENT_FILE, RECENT_MAX, add_recent, recent_files, remove_recent
+from ventset.case_recent import (
+    RECENT_FILE,
+    RECENT_MAX,
+    add_recent,
+    recent_files,
+    remove_recent,
+)
 from ventset.errors import InputError, VentsetError, visible
 from ventset.model import Request, request_to_dict
 
@@ -48,6 +54,7 @@ __all__ = ["FORMAT", "SCHEMA_VERSION", "SUFFIX", "MAX_CASE_BYTES", "MAX_TEXT", "
            "now_iso", "make_case", "case_for_request", "timeline_data", "case_timeline", "case_to_dict",
            "request_from_case_dict", "schema_version_of", "migrate", "case_from_dict", "load_case", "check_reopens",
            "save_case", "replan", "open_case", "compare_plan_dicts", "recent_files", "add_recent", "remove_recent",
+           "clear_recent", "recent_labels",
            "_field_checker"]
 
 

@@ -5,12 +5,14 @@ from __future__ import annotations
 import argparse
 import importlib
 import json
+import os
 import sys
 from collections.abc import Sequence
 from typing import NoReturn
 
+from ventset import __version__
 from ventset.cli_support import add_request_options, option_error, print_json, request_from_args, say
-from ventset.errors import DataError, InputError, VentsetError, one_line
+from ventset.errors import DataError, InputError, VentsetError, one_line, visible_path
 
 __all__ = ["build_parser", "main", "print_json", "request_from_args", "run_demo"]
 
@@ -18,7 +20,7 @@ __all__ = ["build_parser", "main", "print_json", "request_from_args", "run_demo"
 # and may define extend_plan(p_plan) (extra `plan` options) and after_plan(ns, request, plan).
 EXTENSIONS: tuple[str, ...] = ("ventset.cli_cases", "ventset.cli_titrate", "ventset.aquatic.cli",
                               "ventset.cli_validate", "ventset.cli_compare", "ventset.cli_situations",
-                              "ventset.cli_machines")
+                              "ventset.cli_machines", "ventset.desktop")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -27,8 +29,10 @@ class _Parser(argparse.ArgumentParser):
 
 
 def build_parser() -> argparse.ArgumentParser:
-    parser = _Parser(prog="ventset", description="Draft starting ventilator settings for an anaesthetised animal. "
-                     "With no command, opens the desktop window.")
+    parser = _Parser(prog="ventset", usage="ventset [--version] [CASE.ventcase | COMMAND ...]",
+                     description="Draft starting ventilator settings for an anaesthetised animal. With no command, "
+                     "opens the desktop window; with a case file (ventset CASE.ventcase), opens it in the window.")
+    parser.add_argument("--version", action="version", version=f"ventset {__version__}")
     sub = parser.add_subparsers(dest="command")
     p_plan = sub.add_parser("plan", help="plan settings for one patient")
     add_request_options(p_plan)
@@ -39,7 +43,8 @@ def build_parser() -> argparse.ArgumentParser:
     p_sp.add_argument("--json", action="store_true")
     p_parts = sub.add_parser("parts", help="list the apparatus catalogue")
     p_parts.add_argument("--json", action="store_true")
-    sub.add_parser("gui", help="open the desktop window")
+    p_gui = sub.add_parser("gui", help="open the desktop window (with a case file: open that case)")
+    p_gui.add_argument("file", nargs="?", metavar="CASE", help="a case file (.ventcase) to open")
     parser.set_defaults(_handlers={})
     handlers: dict = {}
     for name in EXTENSIONS:
@@ -119,13 +124,40 @@ def run_demo() -> int:
     return print_demo()
 
 
-def _cmd_gui(_: argparse.Namespace) -> int:
+def _cmd_gui(ns: argparse.Namespace) -> int:
+    from pathlib import Path
+
+    path = getattr(ns, "file", None)
+    if path is not None and not Path(path).is_file():
+        say(f"no such case file: {visible_path(path)}")
+        return 2
     try:
         from ventset.gui.app import run
     except ImportError as exc:
+        if path is not None:
+            print(f"ventset: the desktop window is not available ({exc}); printing the case's plan instead.")
+            from ventset.cli_cases import print_case
+
+            return print_case(path)
         print(f"ventset: the desktop window is not available ({exc}); printing the demo plan instead.")
         return run_demo()
-    return run()
+    return run(case_path=path)
+
+
+def _commands(parser: argparse.ArgumentParser) -> set[str]:
+    for action in parser._subparsers._group_actions if parser._subparsers else ():
+        return set(getattr(action, "choices", None) or {})
+    return set()
+
+
+def file_args(args: list[str], parser: argparse.ArgumentParser) -> list[str]:
+    """``ventset CASE.ventcase`` is ``ventset gui CASE.ventcase`` (how a desktop or file manager starts it)."""
+    if args and not args[0].startswith("-") and args[0] not in _commands(parser):
+        from ventset.cases import SUFFIX
+
+        if args[0].endswith((SUFFIX, ".json")) or os.path.isfile(args[0]):
+            return ["gui", *args]
+    return args
 
 
 def _safe_streams() -> None:
@@ -160,7 +192,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     _safe_streams()
     args = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
-    ns = parser.parse_args(args)
+    ns = parser.parse_args(file_args(args, parser))
     handlers = {"plan": _cmd_plan, "species": _cmd_species, "parts": _cmd_parts, "gui": _cmd_gui,
                 "demo": lambda _ns: run_demo(), None: _cmd_gui, **ns._handlers}
     try:

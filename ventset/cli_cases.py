@@ -76,7 +76,9 @@ def extend_plan(p_plan: argparse.ArgumentParser) -> None:
     p_plan.add_argument("--save", metavar="CASE", help=f"also save the case to this file (e.g. dog{cases.SUFFIX}); "
                         "an existing case with other inputs is kept unless --replace is given")
     p_plan.add_argument("--replace", action="store_true", help="with --save: replace an existing case file")
-    p_plan.add_argument("--pdf", metavar="FILE", help="also write the one-page printed plan as PDF")
+    p_plan.add_argument("--pdf", metavar="FILE", help="also write the printed plan as PDF")
+    p_plan.add_argument("--paper", choices=("A4", "Letter"), default=None,
+                        help="paper for --pdf (default: from the locale, Letter in the US and Canada, else A4)")
 
 
 def after_plan(ns: argparse.Namespace, request, plan) -> None:
@@ -102,17 +104,17 @@ def after_plan(ns: argparse.Namespace, request, plan) -> None:
             _say(f"warning: {warning}")
     if getattr(ns, "pdf", None):
         write_pdf(plan, ns.pdf, getattr(ns, "gas_unit", "mmHg"), Path(ns.save).name if getattr(ns, "save", None)
-                  else "")
+                  else "", paper=getattr(ns, "paper", None))
         _say(f"wrote printed plan to {ns.pdf}")
 
 
-def write_pdf(plan, path: str, gas_unit: str = "mmHg", case_name: str = "") -> None:
+def write_pdf(plan, path: str, gas_unit: str = "mmHg", case_name: str = "", paper: str | None = None) -> None:
     try:
         from ventset.gui.printing import write_plan_pdf
     except ImportError as exc:
         raise VentsetError(f"the PDF needs the desktop components (PySide6), which are not available ({exc})") \
             from None
-    write_plan_pdf(plan, path, gas_unit=gas_unit, case_name=case_name)
+    write_plan_pdf(plan, path, gas_unit=gas_unit, case_name=case_name, paper=paper)
 
 
 def _cmd_show(ns: argparse.Namespace) -> int:
@@ -141,6 +143,11 @@ def _cmd_show(ns: argparse.Namespace) -> int:
     else:
         print(plan_to_text(result, ns.gas_unit))
     return 0
+
+
+def print_case(path: str, gas_unit: str = "mmHg") -> int:
+    """The case's plan as text, as ``ventset show CASE`` (``ventset CASE`` without a display)."""
+    return _cmd_show(argparse.Namespace(case=path, stored=False, summary=False, json=False, gas_unit=gas_unit))
 
 
 def _resolve_part(text: str, clinic: partslib.ClinicLibrary, library):

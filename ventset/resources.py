@@ -29,3 +29,12 @@ def resource_dir(folder: Path | str | None = None) -> Path:
 def resource_path(name: str, folder: Path | str | None = None) -> Path:
     """Return the path of a data file, e.g. ``resource_path("species.toml")`` (see ``resource_dir``)."""
     return resource_dir(folder) / name
+
+
+def docs_dir() -> Path:
+    """The folder of the bundled documents (the user guide and its pictures): installed ``ventset/_docs``
+    (copied there by setup.py), else the checkout's ``docs/``."""
+    packaged = files("ventset") / "_docs"
+    if (packaged / "user-guide.md").is_file():
+        return Path(str(packaged))
+    return Path(__file__).resolve().parent.parent / "docs"

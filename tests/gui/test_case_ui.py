@@ -5,6 +5,7 @@ from __future__ import annotations
 import dataclasses
 import json
 import os
+import re
 from pathlib import Path
 
 import pytest
@@ -13,7 +14,7 @@ from ventset import autosave, cases, partslib, storage
 from ventset.model import STANDING_NOTICE, ApparatusPart
 
 pytest.importorskip("PySide6")
-from PySide6.QtGui import QGuiApplication, QKeySequence  # noqa: E402
+from PySide6.QtGui import QAction, QGuiApplication, QKeySequence  # noqa: E402
 from PySide6.QtWidgets import QWidget  # noqa: E402
 
 from ventset.gui import case_ui  # noqa: E402
@@ -177,11 +178,35 @@ def test_copy_summary_and_pdf(make_window, tmp_path):
     assert manager.copy_summary().startswith("NOT CURRENT")
 
 
-def test_print_preview_shows_the_page(make_window, qtbot):
+def test_print_preview_is_qt_s_own_and_shows_every_page_on_the_chosen_paper(make_window, qtbot, tmp_path):
+    import shutil
+    import subprocess
+
+    from PySide6.QtGui import QPageSize
+    from PySide6.QtPrintSupport import QPrintPreviewDialog, QPrintPreviewWidget
+
+    titrate = pytest.importorskip("ventset.titrate")
     window, manager, dialogs = make_window()
+    p = window.controller.plan
+    m = titrate.Measurement(5.0, p.ventilation.tidal_volume_ml, p.ventilation.rate_per_min, etco2_mmhg=58.0)
+    entries = titrate.record_measurement((), window.controller.request, m)
+    manager.register_timeline(lambda: entries, lambda _e: None)
+    letter = next(a for a in manager.paper_menu.actions() if a.text() == "Letter")
+    letter.trigger()
     dialog = manager.preview()
     qtbot.addWidget(dialog)
-    assert dialog.image.width() >= 700 and dialog.image.height() > dialog.image.width()
+    assert isinstance(dialog, QPrintPreviewDialog)
+    assert dialog.printer.pageLayout().pageSize().id() == QPageSize.PageSizeId.Letter
+    preview = dialog.findChild(QPrintPreviewWidget)
+    preview.updatePreview()
+    pdf = manager.write_pdf(tmp_path / "plan.pdf")
+    assert dialog.job.record == entries
+    if shutil.which("pdfinfo"):
+        meta = subprocess.run(["pdfinfo", str(pdf)], capture_output=True, text=True, check=True).stdout
+        assert int(re.search(r"Pages:\s+(\d+)", meta).group(1)) == preview.pageCount()  # as the PDF
+        assert re.search(r"Page size:\s+612(\.\d+)? x 792", meta)
+    assert preview.pageCount() >= 2
+    assert dialog.findChild(QAction, "preview-save-pdf") is not None
     if SHOTS:
         dialog.grab().save(str(SHOTS / "print-preview.png"))
     dialog.close()

@@ -1,4 +1,5 @@
-"""The printed plan (ventset.gui.printing): one PDF page that holds the settings, notice and signature line.
+"""The printed plan (ventset.gui.printing): PDF pages that hold the settings, every caution and assumption, the
+anaesthetic record, the standing notice on every page and the signature line; Qt's print preview; paper by locale.
 
 Checked from outside Qt with poppler-utils (pdftotext, pdftoppm, pdfinfo; installed by scripts/setup.sh --test).
 """
@@ -21,6 +22,7 @@ from ventset import __version__, storage
 from ventset.library import load_library
 from ventset.model import STANDING_NOTICE, ApparatusPart, Caution, Circuit, Patient, Request, Targets
 from ventset.planner import plan
+from ventset.present.rows import ordered_assumptions, setting_rows
 from ventset.units import fmt
 
 printing = pytest.importorskip("ventset.gui.printing")
@@ -55,8 +57,27 @@ def _flat(text: str) -> str:
 
 def _write(tmp_path, p, name="plan.pdf", **kw) -> tuple[Path, printing.PageInfo]:
     path = tmp_path / name
+    kw.setdefault("paper", "A4")
     info = printing.write_plan_pdf(p, path, when=WHEN, case_name="clementine.ventcase", **kw)
     return path, info
+
+
+def _pages(pdf: Path) -> int:
+    meta = subprocess.run(["pdfinfo", str(pdf)], capture_output=True, text=True, check=True).stdout
+    return int(re.search(r"^Pages:\s+(\d+)$", meta, re.M).group(1))
+
+
+def _page_text(pdf: Path, n: int) -> str:
+    return _flat(_text(pdf, "-f", str(n), "-l", str(n)))
+
+
+def _every_page_has_the_notice_and_its_number(pdf: Path) -> int:
+    pages = _pages(pdf)
+    for n in range(1, pages + 1):
+        text = _page_text(pdf, n)
+        assert _flat(STANDING_NOTICE) in text, f"page {n} has no standing notice"
+        assert f"page {n} of {pages}" in text
+    return pages
 
 
 @needs_poppler
@@ -65,24 +86,25 @@ def test_pdf_holds_settings_notice_signature_and_versions(qapp, tmp_path):
     path, info = _write(tmp_path, p)
     assert path.read_bytes().startswith(b"%PDF")
     meta = subprocess.run(["pdfinfo", str(path)], capture_output=True, text=True, check=True).stdout
-    assert re.search(r"^Pages:\s+1$", meta, re.M)
     assert re.search(r"Page size:\s+595(\.\d+)? x 842(\.\d+)? pts", meta)  # A4
-    text = _flat(_text(path))
-    for tile in printing.setting_tiles(p):
-        assert f"{tile.value} {tile.unit}".strip() in text, tile
+    assert _every_page_has_the_notice_and_its_number(path) == info.pages
+    first = _page_text(path, 1)
+    for tile in setting_rows(p):
+        assert f"{tile.value} {tile.unit}".strip() in first, tile
     v, pr = p.ventilation, p.pressures
-    assert fmt(v.set_tidal_volume_ml) in text and fmt(v.rate_per_min) in text and fmt(pr.peep_cmh2o) in text
-    assert _flat(STANDING_NOTICE) in text
-    assert "Clementine (invented)" in text and "Dog · 27 kg" in text
-    assert "Veterinarian (name)" in text and "Signature" in text and "Date and time" in text
+    assert fmt(v.set_tidal_volume_ml) in first and fmt(v.rate_per_min) in first and fmt(pr.peep_cmh2o) in first
+    assert "Clementine (invented)" in first and "Dog · 27 kg" in first
+    assert "Veterinarian (name)" in first and "Signature" in first and "Date and time" in first
+    text = _flat(_text(path))
     assert f"ventset {__version__}" in text and f"species data {LIB.species_version}" in text
     assert "printed 2024-06-03 08:15" in text and "clementine.ventcase" in text
     assert "Clinic HME, adult 55 mL; Y-piece 7.5 mL = 62.5 mL" in text
     for c in p.cautions:
         assert c.code in text
-    assert info.cautions_omitted == 0 and info.assumptions_omitted == 0
-    for a in p.assumptions:  # every assumption is on the page, with its source
+    assert info.cautions_shown == len(p.cautions) and info.assumptions_shown == len(p.assumptions)
+    for a in p.assumptions:  # every assumption is printed, with its source
         assert _flat(f"{a.name}:") in text and _flat(a.source)[:40] in text
+    assert "not shown" not in text
     assert not re.search("[\ufb00-\ufb06]", text)  # no ligature glyphs: 'Inspiratory flow' extracts as typed
     assert "Inspiratory flow" in text
 
@@ -111,7 +133,8 @@ def test_page_renders_with_clear_margins(qapp, tmp_path):
     from PySide6.QtGui import QImage
 
     path, info = _write(tmp_path, _plan())
-    subprocess.run(["pdftoppm", "-r", "50", "-png", str(path), str(tmp_path / "page")], check=True)
+    subprocess.run(["pdftoppm", "-r", "50", "-png", "-f", "1", "-l", "1", str(path), str(tmp_path / "page")],
+                   check=True)
     (png,) = tmp_path.glob("page*.png")
     img = QImage(str(png))
     assert abs(img.width() - 413) <= 1 and abs(img.height() - 585) <= 1  # A4 at 50 dpi
@@ -128,23 +151,64 @@ def test_page_renders_with_clear_margins(qapp, tmp_path):
 
 
 @needs_poppler
-def test_too_much_to_fit_puts_important_first_and_counts_the_rest(qapp, tmp_path):
+def test_a_crowded_plan_prints_everything_on_further_pages(qapp, tmp_path):
     p = _plan()
     extra = tuple(Caution("info", f"INVENTED_{i}", "An invented note to crowd the page for this test; it is long "
                           "enough to wrap onto a second printed line of the caution list. " * 2) for i in range(16))
     crowded = dataclasses.replace(p, cautions=p.cautions + extra)
     path, info = _write(tmp_path, crowded)
+    assert info.pages >= 2 and _every_page_has_the_notice_and_its_number(path) == info.pages
     text = _flat(_text(path))
-    assert info.assumptions_omitted > 0 and info.assumptions_shown >= 3
-    assert f"{info.assumptions_omitted} more assumption(s) not shown" in text and "ventset show CASE" in text
-    assert info.cautions_omitted > 0 and f"{info.cautions_omitted} more caution(s) not shown" in text
-    for c in p.cautions:  # the plan's own (more severe) cautions come before the crowd
+    assert info.cautions_shown == len(crowded.cautions) and info.assumptions_shown == len(p.assumptions)
+    assert info.cautions_omitted == info.assumptions_omitted == 0 and "not shown" not in text
+    for c in crowded.cautions:
         assert c.code in text
-    shown = printing.ordered_assumptions(crowded)[: info.assumptions_shown]
-    assert {printing.assumption_rank(a.name) for a in shown} == {0}  # the most important first
-    assert "Target PaCO2:" in text and _flat(STANDING_NOTICE) in text and "Signature" in text
-    meta = subprocess.run(["pdfinfo", str(path)], capture_output=True, text=True, check=True).stdout
-    assert re.search(r"^Pages:\s+1$", meta, re.M)
+    for a in p.assumptions:
+        assert _flat(a.source)[:40] in text
+    last = _page_text(path, info.pages)
+    assert "(continued)" in last and "Signature" not in last  # signed once, on the sheet with the settings
+    order = [text.index(_flat(f"{a.name}:")) for a in ordered_assumptions(p)]
+    assert order == sorted(order)  # most important first, the rest after, none dropped
+
+
+@needs_poppler
+def test_the_anaesthetic_record_is_printed_in_the_chosen_unit(qapp, tmp_path):
+    from ventset.titrate import Measurement, accept, record_measurement
+
+    p = _plan()
+    req = p.request
+    entries = record_measurement((), req, Measurement(0, 300, 12, etco2_mmhg=52, clock="09:05", note="after "
+                                                      "induction (invented)"), library=LIB)
+    entries = accept(entries, 0, "proposal")
+    entries = record_measurement(entries, req, Measurement(15, 330, 14, paco2_mmhg=46, etco2_mmhg=41, pao2_mmhg=410,
+                                                           spo2_percent=99, clock="09:20"), library=LIB)
+    path, info = _write(tmp_path, p, record=entries, gas_unit="kPa")
+    assert info.record_rows == 2
+    text = _flat(_text(path))
+    assert "ANAESTHETIC RECORD (2 measurements)" in text
+    assert "09:05 (0 min)" in text and "after induction (invented)" in text and "(proposal)" in text
+    assert f"{fmt(52 / 7.500615758)} kPa" in text and f"{fmt(46 / 7.500615758)} kPa" in text  # 1 kPa = 7.5006 mmHg
+    proposal = entries[0].proposal
+    assert f"{fmt(proposal.tidal_volume_ml)} mL × {fmt(proposal.rate_per_min)}/min" in text
+    without, _ = _write(tmp_path, p, name="none.pdf")
+    assert "ANAESTHETIC RECORD" not in _text(without)
+
+
+@needs_poppler
+def test_no_alveolar_ventilation_prints_the_danger_and_no_settings(qapp, tmp_path):
+    req = Request(Patient("cat", 4.0, name="Smudge (invented)"), Circuit(parts=(ApparatusPart("Big filter", 50.0),)),
+                  Targets())
+    p = plan(req, LIB)
+    assert printing.no_gas_exchange(p)  # 50 mL of filter on a 4 kg cat: every breath is dead space
+    path, info = _write(tmp_path, p)
+    first = _page_text(path, 1)
+    assert "NO ALVEOLAR VENTILATION" in first and "No settings are printed" in first
+    assert "Set tidal volume" not in first and "Recommended" not in first
+    heights = _word_heights(path)
+    big = [h for w, h in heights if h > 15]  # the 24 pt setting numbers are over 25 pt high
+    assert big and all(h < 22 for h in big)
+    assert [h for w, h in heights if w == "ALVEOLAR"][0] > 14  # the danger is what stands out
+    assert _every_page_has_the_notice_and_its_number(path) == info.pages
 
 
 @needs_poppler
@@ -158,14 +222,22 @@ def test_pressure_mode_letter_paper_and_a_long_name(qapp, tmp_path):
     assert "Tidal volume (expected)" in text and "…" in text  # the name is shortened, not overprinted
 
 
-def test_assumption_ranking_puts_targets_and_limits_first():
-    ranks = {a.name: printing.assumption_rank(a.name) for a in _plan().assumptions}
-    assert ranks["Target PaCO2"] == 0 and ranks["Pressure limit"] == 0 and ranks["Tidal volume range"] == 0
-    assert ranks["Q10"] == 2 and ranks["Water vapour pressure"] == 3
+def test_paper_follows_the_locale(monkeypatch):
+    assert printing.default_paper("en_US.UTF-8") == "Letter" and printing.default_paper("fr_CA") == "Letter"
+    assert printing.default_paper("en_CA.UTF-8") == "Letter"
+    for name in ("en_GB.UTF-8", "de_DE", "fr_FR.UTF-8@euro", "en_AU", "C"):
+        assert printing.default_paper(name) == "A4", name
+    for var in ("LC_ALL", "LC_PAPER", "LANG"):
+        monkeypatch.delenv(var, raising=False)
+    monkeypatch.setenv("LANG", "en_GB.UTF-8")
+    monkeypatch.setenv("LC_PAPER", "en_US.UTF-8")  # POSIX: LC_PAPER over LANG, LC_ALL over both
+    assert printing.default_paper() == "Letter"
+    monkeypatch.setenv("LC_ALL", "de_DE.UTF-8")
+    assert printing.default_paper() == "A4"
 
 
 def test_page_image_for_preview(qapp):
-    img = printing.plan_page_image(_plan(), 600, when=WHEN)
+    img = printing.plan_page_image(_plan(), 600, when=WHEN, paper="A4")
     assert img.width() == 600 and abs(img.height() - 600 * 842 / 595) <= 1
     assert not img.isNull()
 

@@ -21,7 +21,7 @@ from collections.abc import Callable
 from pathlib import Path
 
 from PySide6.QtCore import QEvent, QObject, Qt, QTimer, Signal
-from PySide6.QtGui import QAction, QGuiApplication, QKeySequence, QPixmap
+from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QDialog,
@@ -34,7 +34,6 @@ from PySide6.QtWidgets import (
     QMenu,
     QMessageBox,
     QPushButton,
-    QScrollArea,
     QTableWidget,
     QTableWidgetItem,
     QTabWidget,
@@ -48,7 +47,6 @@ from ventset.gui.text import esc, plain, plain_tip
 from ventset.units import fmt
 
 CASE_FILTER = f"ventset case (*{cases.SUFFIX});;JSON (*.json);;All files (*)"
-PDF_FILTER = "PDF (*.pdf)"
 
 
 def _first_error(errors) -> str:
@@ -225,8 +223,16 @@ class CaseManager(QObject):
         self._put_timeline(case)
         self.controller.set_request(case.request)
         self.controller.flush()
+        self.reset_history()
         self._changed_outside = dirty
         self._refresh_title()
+
+    def reset_history(self) -> None:
+        """A case replaced the one in the window (Open, a restored autosave, New): undo never reaches back into
+        the previous patient."""
+        undo = getattr(self.window, "undo", None)
+        if undo is not None:
+            undo.clear()
 
     def _put_timeline(self, case: cases.Case) -> None:
         if self._timeline_put is None:
@@ -318,53 +324,25 @@ class CaseManager(QObject):
         form = getattr(self.window, "form", None)
         return form.gas_unit() if form is not None and hasattr(form, "gas_unit") else "mmHg"
 
-    def write_pdf(self, path: Path | None = None) -> Path | None:
-        from ventset.gui.printing import write_plan_pdf
+    def slug(self) -> str:
+        return _slug(self.controller.request)
 
-        plan = self.current_plan()
-        if plan is None:
-            return None
-        if path is None:
-            stem = self.path.stem if self.path else _slug(plan.request)
-            base = self.path.parent if self.path else Path.home()
-            chosen = self.pick_save_path("Save printed plan as PDF", str(base / f"{stem}-plan.pdf"), PDF_FILTER)
-            if not chosen:
-                return None
-            path = Path(chosen)
-            if not path.suffix:
-                path = path.with_suffix(".pdf")
-        try:
-            info = write_plan_pdf(plan, path, gas_unit=self._gas_unit(), case_name=self.path.name if self.path
-                                  else "")
-        except VentsetError as exc:
-            self.warn("The PDF was not written", str(exc))
-            return None
-        left = f"; {info.assumptions_omitted} assumptions did not fit" if info.assumptions_omitted else ""
-        self._status(f"Wrote {path}{left}")
-        return path
+    def write_pdf(self, path: Path | None = None) -> Path | None:
+        """Save the printed plan as PDF (every page, the anaesthetic record included)."""
+        from ventset.gui import print_ui
+
+        return print_ui.write_pdf(self, path)
 
     def print_to_printer(self) -> bool:
-        from PySide6.QtPrintSupport import QPrintDialog, QPrinter
+        from ventset.gui import print_ui
 
-        from ventset.gui.printing import print_plan
+        return print_ui.print_to_printer(self)
 
-        plan = self.current_plan()
-        if plan is None:
-            return False
-        printer = QPrinter(QPrinter.PrinterMode.HighResolution)
-        dialog = QPrintDialog(printer, self.window)
-        if dialog.exec() != QDialog.DialogCode.Accepted:
-            return False
-        print_plan(plan, printer, gas_unit=self._gas_unit(), case_name=self.path.name if self.path else "")
-        return True
+    def preview(self):
+        """Qt's print preview of the printed plan (a QPrintPreviewDialog), or None without a current plan."""
+        from ventset.gui import print_ui
 
-    def preview(self) -> QDialog | None:
-        plan = self.current_plan()
-        if plan is None:
-            return None
-        dialog = PrintPreview(self, plan)
-        dialog.open()
-        return dialog
+        return print_ui.preview(self)
 
     def copy_summary(self) -> str:
         from ventset.summary import plan_summary
@@ -491,39 +469,6 @@ def _slug(request) -> str:
     name = request.patient.name or request.patient.species or "case"
     keep = "".join(ch if ch.isalnum() or ch in "-_" else "-" for ch in name.strip().lower())
     return "-".join(filter(None, keep.split("-")))[:40] or "case"
-
-
-class PrintPreview(QDialog):
-    """The page as it will print, with Save as PDF and Print."""
-
-    def __init__(self, manager: CaseManager, plan) -> None:
-        from ventset.gui.printing import plan_page_image
-
-        super().__init__(manager.window)
-        self.setWindowTitle("Printed plan")
-        self.manager = manager
-        layout = QVBoxLayout(self)
-        scroll = QScrollArea(self)
-        scroll.setWidgetResizable(False)
-        self.page = plain(QLabel(scroll))
-        width = max(700, self.fontMetrics().averageCharWidth() * 110)
-        self.image = plan_page_image(plan, width, gas_unit=manager._gas_unit(),
-                                     case_name=manager.path.name if manager.path else "")
-        self.page.setPixmap(QPixmap.fromImage(self.image))
-        self.page.setAccessibleName("Preview of the printed plan")
-        scroll.setWidget(self.page)
-        layout.addWidget(scroll, 1)
-        buttons = QDialogButtonBox(self)
-        self.pdf_button = buttons.addButton("Save as PDF…", QDialogButtonBox.ButtonRole.AcceptRole)
-        self.print_button = buttons.addButton("Print…", QDialogButtonBox.ButtonRole.ActionRole)
-        buttons.addButton(QDialogButtonBox.StandardButton.Close)
-        self.pdf_button.clicked.connect(lambda: self.manager.write_pdf() and self.accept())
-        self.print_button.clicked.connect(lambda: self.manager.print_to_printer() and self.accept())
-        buttons.rejected.connect(self.reject)
-        layout.addWidget(buttons)
-        screen = QGuiApplication.primaryScreen()
-        h = int(screen.availableGeometry().height() * 0.85) if screen else 900
-        self.resize(width + 70, h)
 
 
 PART_COLUMNS = ("Name", "Volume (mL)", "Note", "Measured by", "Measured on")
@@ -810,22 +755,37 @@ def install(window, *, offer_recovery: bool = True, autosave_folder: Path | None
     menu.insertMenu(first, recent)
     manager.recent_menu = recent
 
+    recent.setToolTipsVisible(True)
+
     def fill_recent() -> None:
         recent.clear()
         paths = cases.recent_files()
-        for p in paths:
-            a = recent.addAction(str(p))
+        for i, (p, label) in enumerate(zip(paths, cases.recent_labels(paths), strict=True)):
+            a = recent.addAction(f"&{i + 1} {label}" if i < 9 else label)
+            a.setToolTip(plain_tip(str(p)))
+            a.setStatusTip(str(p))
+            a.setData(str(p))
             a.triggered.connect(lambda _=False, p=p: manager.open_recent(p))
         if not paths:
             recent.addAction("No recent cases").setEnabled(False)
+            return
+        recent.addSeparator()
+        clear = recent.addAction("Clear the list")
+        clear.setObjectName("act-clear-recent")
+        clear.triggered.connect(lambda: manager._status(cases.clear_recent() or "The list of recent cases is empty "
+                                                        "(the case files are untouched)."))
 
     recent.aboutToShow.connect(fill_recent)
+    manager.fill_recent = fill_recent
     manager.act_save = act("Save case", manager.save, QKeySequence.StandardKey.Save, "act-save")
     manager.act_save_as = act("Save case as…", manager.save_as, QKeySequence("Ctrl+Shift+S"), "act-save-as")
     menu.insertSeparator(first)
     manager.act_print = act("Printed plan (preview, PDF, print)…", manager.preview, QKeySequence.StandardKey.Print,
                             "act-print")
     manager.act_pdf = act("Save printed plan as PDF…", manager.write_pdf, None, "act-pdf")
+    from ventset.gui.print_ui import install_paper_menu
+
+    manager.paper_menu = install_paper_menu(window, menu, first)
     manager.act_summary = act("Copy summary for the clinical record", manager.copy_summary,
                               QKeySequence("Ctrl+Alt+C"), "act-summary")
     menu.insertSeparator(first)

@@ -48,6 +48,7 @@ class Theme:
     line_width: float = 2.0
     placeholder: str = ""     # defaults shown in empty fields; distinct from typed text
     form_style: str = ""      # extra style for the form (high contrast: visible field borders)
+    window_style: str = ""    # style for the whole window and its dialogs (high contrast: every input bordered)
 
 
 DAY = Theme(
@@ -85,10 +86,28 @@ HIGH_CONTRAST = Theme(
     placeholder="#b0b0b0",
     form_style="QLineEdit { border: 1px solid #ffffff; padding: 1px; } "
                "QLineEdit:disabled { border: 1px dashed #8a8a8a; }",
+    window_style="QLineEdit, QAbstractSpinBox, QTextEdit, QPlainTextEdit, QAbstractItemView "
+                 "{ border: 1px solid #ffffff; padding: 1px; } "
+                 "QComboBox { border: 1px solid #ffffff; padding: 1px 4px; } "
+                 "QLineEdit:focus, QComboBox:focus, QAbstractSpinBox:focus, QTextEdit:focus, QPlainTextEdit:focus, "
+                 "QAbstractItemView:focus { border: 2px solid #ffd800; padding: 0px; } "
+                 "QComboBox:focus { padding: 0px 3px; } "
+                 "QLineEdit:disabled, QComboBox:disabled, QAbstractSpinBox:disabled { border: 1px dashed #8a8a8a; } "
+                 "QPushButton, QToolButton { border: 1px solid #ffffff; padding: 2px 8px; } "
+                 "QPushButton:focus, QToolButton:focus { border: 2px solid #ffd800; padding: 1px 7px; }",
 )
 THEMES: dict[str, Theme] = {t.key: t for t in (DAY, NIGHT, HIGH_CONTRAST)}
 
 SEVERITY_WORD = {"danger": "DANGER", "caution": "CAUTION", "info": "INFO"}
+
+
+def app_icon():
+    """ventset's icon (the SVG shipped in the package, also the desktop entry's) as a QIcon."""
+    from PySide6.QtGui import QIcon
+
+    from ventset.desktop import icon_path
+
+    return QIcon(str(icon_path()))
 
 
 def palette_for(theme: Theme) -> QPalette:

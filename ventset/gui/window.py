@@ -60,6 +60,8 @@ def install_extensions(window: MainWindow) -> list[str]:
     import importlib
     import traceback
 
+    from ventset.gui import access
+
     done = []
     for name in EXTENSIONS:
         try:
@@ -69,6 +71,7 @@ def install_extensions(window: MainWindow) -> list[str]:
             traceback.print_exc()
             continue
         done.append(name)
+    access.apply(window)  # the added panels' inputs named and threaded into the Tab order
     return done
 
 
@@ -92,6 +95,9 @@ class MainWindow(QMainWindow):
         self.controller = PlanController(self.library, self)
         self.undo = QUndoStack(self)
         self.setWindowTitle("ventset — starting ventilator settings")
+        from ventset.gui.theme import app_icon
+
+        self.setWindowIcon(app_icon())
         self._menus: dict[str, QMenu] = {}
         self._panels: dict[str, QWidget] = {}
 
@@ -115,6 +121,9 @@ class MainWindow(QMainWindow):
         self.controller.set_request(request if request is not None else demo_request(self.library))
         self.controller.flush()
         self.undo.clear()
+        from ventset.gui import access
+
+        access.apply(self)
 
     # ------------------------------------------------------------------ layout
     def _build_central(self) -> None:
@@ -190,7 +199,6 @@ class MainWindow(QMainWindow):
         self.splitter.setStretchFactor(2, 0)
         outer.addWidget(self.splitter, 1)
         self.setCentralWidget(central)
-        self.setTabOrder(self.form, self.cautions)
 
     def _build_menus(self) -> None:
         bar = self.menuBar()
@@ -216,6 +224,10 @@ class MainWindow(QMainWindow):
         for a in (self.act_undo, self.act_redo):
             a.setShortcutContext(Qt.ShortcutContext.WindowShortcut)
             edit.addAction(a)
+        edit.addSeparator()
+        from ventset.gui import editing
+
+        self.edit_actions = editing.install(self, edit)
         edit.addSeparator()
         self.act_find = QAction("Find species", self)
         self.act_find.setShortcut(QKeySequence.StandardKey.Find)
@@ -257,11 +269,11 @@ class MainWindow(QMainWindow):
             view.addAction(a)
 
         helpm = self.menu("&Help")
+        from ventset.gui.help_ui import install_help
+
+        install_help(self, helpm)
         a = QAction("Before you start (standing notice)", self)
         a.triggered.connect(self.show_acknowledgement)
-        helpm.addAction(a)
-        a = QAction("About ventset", self)
-        a.triggered.connect(self._about)
         helpm.addAction(a)
         if QGuiApplication.platformName() == "offscreen":
             bar.setNativeMenuBar(False)
@@ -374,6 +386,8 @@ class MainWindow(QMainWindow):
         app = QApplication.instance()
         if app is not None:
             apply_theme(app, theme)
+        if self.styleSheet() != theme.window_style:
+            self.setStyleSheet(theme.window_style)
         for w in (self.notice, self.status, self.settings_panel, self.cautions, self.form, *self.plot_cards):
             w.set_theme(theme)
         if self.controller.plan is not None:
@@ -402,15 +416,6 @@ class MainWindow(QMainWindow):
 
         AcknowledgementDialog(self, review=True).exec()
 
-    def _about(self) -> None:
-        from PySide6.QtWidgets import QMessageBox
-
-        from ventset import __version__
-
-        QMessageBox.about(self, "About ventset", f"ventset {__version__}: drafts starting ventilator settings for "
-                          "anaesthetised animals from body mass, metabolic rate and the real circuit's dead space. "
-                          "Every number is a starting point to be titrated to monitoring.")
-
     def _restore(self) -> None:
         geo = self.settings.value("window/geometry")
         if isinstance(geo, QByteArray | bytes) and self.restoreGeometry(QByteArray(geo)):
@@ -424,6 +429,12 @@ class MainWindow(QMainWindow):
             state = self.settings.value(name)
             if isinstance(state, QByteArray | bytes):
                 splitter.restoreState(QByteArray(state))
+
+    def focusNextPrevChild(self, next: bool) -> bool:  # noqa: N802, A002 - Qt override
+        """Tab and Shift+Tab through the panels in reading order (ventset.gui.access)."""
+        from ventset.gui import access
+
+        return access.move_focus(self, next) or super().focusNextPrevChild(next)
 
     def closeEvent(self, event) -> None:  # noqa: N802 - Qt override
         self.settings.setValue("window/geometry", self.saveGeometry())

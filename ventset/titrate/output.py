@@ -4,6 +4,7 @@ presentation layer from the results' own values in the chosen units."""
 from __future__ import annotations
 
 from ventset import __version__
+from ventset.errors import visible
 from ventset.present.quantities import Units, fmt, gas
 from ventset.report import caution_lines, cautions_to_json, patient_to_dict
 from ventset.report import json_number as n
@@ -165,3 +166,34 @@ def adjustment_to_text(a: Adjustment, gas_unit: str = "mmHg") -> str:
     lines += caution_lines(a.cautions, units)
     lines += ["", "NOTICE: " + a.standing_notice]
     return "\n".join(lines)
+
+
+RECORD_COLUMNS = ("Time", "In use", "EtCO2", "PaCO2", "PaO2 / SpO2", "FiO2", "Proposed", "Set", "Note")
+_SET_AS = {"proposal": "proposal", "partial_step": "part-way", "own": "own"}
+
+
+def _vt_rate(tidal_volume_ml: float, rate_per_min: float) -> str:
+    return f"{fmt(tidal_volume_ml)} mL × {fmt(rate_per_min)}/min"
+
+
+def record_rows(entries: tuple, units: Units | None = None) -> list[tuple[str, ...]]:
+    """The anaesthetic record as text rows under RECORD_COLUMNS (the printed plan's table); user notes as typed,
+    on one line."""
+    u = units or Units()
+    rows: list[tuple[str, ...]] = []
+    for e in entries:
+        m = e.measurement
+        when = f"{m.clock} ({fmt(m.time_min)} min)" if m.clock else f"{fmt(m.time_min)} min"
+        oxygen = " / ".join(t for t in (gas(m.pao2_mmhg, u) if m.pao2_mmhg is not None else "",
+                                        f"{fmt(m.spo2_percent)} %" if m.spo2_percent is not None else "") if t)
+        proposed = _vt_rate(e.proposal.tidal_volume_ml, e.proposal.rate_per_min) if e.proposal else (
+            e.error or "—")
+        if e.partial_step:
+            proposed += f"; part-way {_vt_rate(e.partial_step.tidal_volume_ml, e.partial_step.rate_per_min)}"
+        done = (f"{_vt_rate(e.settings_set.tidal_volume_ml, e.settings_set.rate_per_min)} "
+                f"({_SET_AS.get(e.accepted, e.accepted)})" if e.settings_set else "—")
+        rows.append((when, _vt_rate(m.tidal_volume_ml, m.rate_per_min),
+                     gas(m.etco2_mmhg, u) if m.etco2_mmhg is not None else "—",
+                     gas(m.paco2_mmhg, u) if m.paco2_mmhg is not None else "—", oxygen or "—",
+                     fmt(m.fio2) if m.fio2 is not None else "—", proposed, done, visible(m.note, 300)))
+    return rows
