@@ -43,7 +43,9 @@ from ventset.case_recent import (
     RECENT_FILE,
     RECENT_MAX,
     add_recent,
+    clear_recent,
     recent_files,
+    recent_labels,
     remove_recent,
 )
 from ventset.errors import InputError, VentsetError, visible

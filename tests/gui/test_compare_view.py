@@ -41,7 +41,7 @@ def test_compare_opens_from_the_case_menu_with_an_hme_beside_the_patient(cat_win
     assert view.comparison is not None and len(view.comparison.setups) == 2
     r = _row(view, "Minute volume")
     assert view.table.item(r, 0).text().startswith("≠")
-    assert view.table.item(r, 1).text() == "446 mL/min" and view.table.item(r, 2).text() == "720 mL/min"
+    assert view.table.item(r, 1).text() == "498 mL/min" and view.table.item(r, 2).text() == "720 mL/min"
     assert not view.table.item(_row(view, "CO2 output (VCO2)"), 0).text().startswith("≠")
     assert "[2] adds: [DANGER] TARGET_UNREACHABLE" in view.cautions.toPlainText()
     assert "NOTICE: " + STANDING_NOTICE in view.cautions.toPlainText()
