@@ -118,7 +118,8 @@ def test_deadspace_view_moves_the_breath_and_marks_where_exchange_stops(cat_wind
     assert ls.minute_needed_ml_min > first.ventilation.minute_ml_min
     assert view.plot.stops[0].value() == pytest.approx(ls.stop_ml)
     assert view.plot.now.value() == pytest.approx(ls.apparatus_ml)
-    assert "Gas exchange stops at 23 mL" in view.readout_text()
+    # VT(1 − f_alv) = VD_fixed: 30·0.9 − Stahl 2.76·3^0.96·0.8 (6.34 mL intubated airway) = 20.7 mL of apparatus + tube
+    assert "Gas exchange stops at 20.7 mL" in view.readout_text()
     view.added.set_value(30.0)
     _settle()
     assert math.isinf(view.current.plan.ventilation.expected_paco2_mmhg)

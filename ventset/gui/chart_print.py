@@ -13,7 +13,9 @@ from dataclasses import dataclass
 
 from ventset import __version__
 from ventset.chart import COLUMNS, Chart, cell, circuit_changes, header_lines, mark_rows_text
-from ventset.gui.printing import DPI, _page_size, _points, _Sheet, _species_version, ensure_app
+from ventset.gui.printing import DPI, ensure_app, page_size
+from ventset.gui.printpages import _species_version
+from ventset.gui.sheet import Sheet
 from ventset.present.quantities import Units
 from ventset.present.rows import assumption_value
 
@@ -36,7 +38,7 @@ def _rows_per_page(page_h: float, first: bool) -> int:
     return max(5, int((page_h - head - 110.0) // ROW_H))
 
 
-def _page_head(sh: _Sheet, chart: Chart, w: float, h: float, page: int, pages: int) -> float:
+def _page_head(sh: Sheet, chart: Chart, w: float, h: float, page: int, pages: int) -> float:
     """Title, breathing system and the standing notice; returns the y where the table starts."""
     left, width = MARGIN, w - 2 * MARGIN
     title, notice, system = header_lines(chart)
@@ -55,7 +57,7 @@ def _page_head(sh: _Sheet, chart: Chart, w: float, h: float, page: int, pages: i
     return y
 
 
-def _table(sh: _Sheet, chart: Chart, rows: range, y: float, w: float, units: Units, refs: dict[int, int]) -> float:
+def _table(sh: Sheet, chart: Chart, rows: range, y: float, w: float, units: Units, refs: dict[int, int]) -> float:
     """The column heads and ``rows``; a marked row is shaded and carries its mark's number."""
     from PySide6.QtCore import Qt
 
@@ -89,7 +91,7 @@ def _mark_lines(chart: Chart, rows: range, units: Units) -> list[tuple[str, bool
     return out
 
 
-def _marks(sh: _Sheet, lines: list[tuple[str, bool]], y: float, w: float) -> float:
+def _marks(sh: Sheet, lines: list[tuple[str, bool]], y: float, w: float) -> float:
     for text, bold in lines:
         y += sh.text(MARGIN, y, w - 2 * MARGIN, text, sh.font(8, bold=bold)) + 1
     return y
@@ -108,7 +110,7 @@ def _split_pages(chart: Chart, h: float, units: Units) -> list[range]:
     return pages
 
 
-def _assumptions(sh: _Sheet, chart: Chart, y: float, w: float, h: float, units: Units) -> tuple[int, int]:
+def _assumptions(sh: Sheet, chart: Chart, y: float, w: float, h: float, units: Units) -> tuple[int, int]:
     """The assumptions that hold for every row, in two columns, as many as fit; (shown, omitted)."""
     width, bottom = w - 2 * MARGIN, h - MARGIN - 6
     y += sh.text(MARGIN, y + 4, width, "Assumptions for every row (a single plan at any mass lists the others "
@@ -138,7 +140,7 @@ def _assumptions(sh: _Sheet, chart: Chart, y: float, w: float, h: float, units: 
 def chart_pdf_bytes(chart: Chart, *, gas_unit: str = "mmHg", paper: str = "A4") -> tuple[bytes, ChartPages]:
     """The chart as PDF bytes (landscape), and what it holds."""
     from PySide6.QtCore import QBuffer, QByteArray, QIODevice, QMarginsF
-    from PySide6.QtGui import QPageLayout, QPainter, QPdfWriter
+    from PySide6.QtGui import QPageLayout, QPageSize, QPainter, QPdfWriter
 
     ensure_app()
     units = Units(gas=gas_unit)
@@ -147,11 +149,11 @@ def chart_pdf_bytes(chart: Chart, *, gas_unit: str = "mmHg", paper: str = "A4") 
     buf.open(QIODevice.OpenModeFlag.WriteOnly)
     writer = QPdfWriter(buf)
     writer.setResolution(DPI)
-    writer.setPageLayout(QPageLayout(_page_size(paper), QPageLayout.Orientation.Landscape, QMarginsF(0, 0, 0, 0),
+    writer.setPageLayout(QPageLayout(page_size(paper), QPageLayout.Orientation.Landscape, QMarginsF(0, 0, 0, 0),
                                      QPageLayout.Unit.Point))
     writer.setTitle(f"Starting ventilation settings by body mass — {chart.species_label}")
     writer.setCreator(f"ventset {__version__}")
-    size = _page_size(paper).size(_points())
+    size = page_size(paper).size(QPageSize.Unit.Point)
     w, h = size.height(), size.width()  # landscape
     n = len(chart.sweep)
     split = _split_pages(chart, h, units)
@@ -159,7 +161,7 @@ def chart_pdf_bytes(chart: Chart, *, gas_unit: str = "mmHg", paper: str = "A4") 
     refs = chart.refs()
     painter = QPainter(writer)
     try:
-        sh = _Sheet(painter, writer.resolution())
+        sh = Sheet(painter, writer.resolution())
         for p, rows in enumerate(split):
             if p:
                 writer.newPage()
