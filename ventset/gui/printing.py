@@ -521,3 +521,8 @@ def print_plan(plan: Plan, printer, *, gas_unit: str = "mmHg", case_name: str = 
                            case_name=case_name)
     finally:
         painter.end()
+
+
+# Public names for other printouts (ventset.gui.aquatic_print): the drawing surface and the paper sizes.
+Sheet = _Sheet
+page_size = _page_size
