@@ -79,7 +79,8 @@ def make_irrigation_case(request: IrrigationRequest, plan: IrrigationPlan | None
     time, note and earlier plans; its plan is kept in ``earlier_plans`` when the same request now plans differently
     (another ventset or aquatic data), never for the user's own edits."""
     plan_dict = irrigation_to_dict(plan) if plan is not None else None
-    created, earlier = cases.now_iso(), ()
+    created = cases.now_iso()
+    earlier: tuple[dict, ...] = ()
     if previous is not None:
         created = previous.created_at or created
         note = previous.note if note is None else note

@@ -227,7 +227,7 @@ def _existing(target: Path) -> tuple[int, str] | None:
         reason = exc.reason if isinstance(exc, CaseError) else str(exc)
         raise CaseSaveError(target, f"a file is there that is not a readable ventset case ({reason}); "
                                     "choose another name, or replace it on purpose") from None
-    kind = data.get("kind") if version >= 2 else KIND_VENTILATION
+    kind = cast(dict, data).get("kind") if version >= 2 else KIND_VENTILATION  # schema_version_of checked a dict
     return version, kind if isinstance(kind, str) else ""
 
 
