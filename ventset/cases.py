@@ -10,7 +10,9 @@ This module builds, writes, saves and opens cases. The pieces live in their own 
 re-exported here, so ``ventset.cases`` stays the one import path: the records and constants
 (``ventset.case_model``), reading a stored dict field by field (``ventset.case_reading``), the
 migrations (``ventset.case_migration``), comparing a stored plan with a fresh one
-(``ventset.case_compare``) and the recent-files list (``ventset.case_recent``).
+(``ventset.case_compare``) and the recent-files list (``ventset.case_recent``). A case file names its ``kind``:
+this module's ``Case`` is a ventilation case; a fish's gill irrigation case is ``ventset.case_irrigation``, written
+through the same :func:`write_case_data`.
 """
 
 from __future__ import annotations
