@@ -20,6 +20,11 @@ _LABELLED = (
     ("ventilation.expected_paco2_mmhg", "Expected PaCO2", "mmHg"),
     ("ventilation.expected_etco2_mmhg", "Expected EtCO2", "mmHg"),
     ("ventilation.target_paco2_mmhg", "Target PaCO2", "mmHg"),
+    ("irrigation.flow_l_min", "Irrigation flow", "L/min"),   # a fish's irrigation case (ventset.case_irrigation)
+    ("irrigation.flow_range_l_min", "Irrigation flow range", "L/min"),
+    ("irrigation.extraction", "Gill O2 extraction", ""),
+    ("water.o2_mg_l", "O2 in the supply water", "mg/L"),
+    ("metabolism.vo2_mg_h", "O2 need", "mg/h"),
 )
 _SKIP = {"ventset_version", "cautions", "assumptions", "standing_notice"}
 MAX_DIFFERENCES = 14

@@ -11,7 +11,7 @@ from datetime import UTC, datetime
 from typing import cast
 
 from ventset import __version__
-from ventset.case_model import FORMAT, SCHEMA_VERSION
+from ventset.case_model import FORMAT, KIND_VENTILATION, SCHEMA_VERSION
 from ventset.case_reading import BadField, checked_number, checked_text, type_name
 
 
@@ -50,7 +50,15 @@ def _v0_to_v1(data: dict) -> dict:
             "created_at": stamp, "saved_at": stamp, "note": "", "request": request, "plan": data.get("plan")}
 
 
-MIGRATIONS: dict[int, Callable[[dict], dict]] = {0: _v0_to_v1}
+def _v1_to_v2(data: dict) -> dict:
+    """Schema 1 held only ventilation cases; schema 2 names what a case holds in ``kind`` ("ventilation" or
+    "irrigation", a fish's gill irrigation plan). Nothing else changes."""
+    if "kind" in data:
+        raise BadField("kind", "is not part of case schema 1")
+    return {**data, "schema_version": 2, "kind": KIND_VENTILATION}
+
+
+MIGRATIONS: dict[int, Callable[[dict], dict]] = {0: _v0_to_v1, 1: _v1_to_v2}
 
 
 def schema_version_of(data: object) -> int:

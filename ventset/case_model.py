@@ -14,11 +14,16 @@ from ventset.model import Request
 from ventset.textpolicy import TEXT_FIELDS
 
 FORMAT = "ventset-case"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 SUFFIX = ".ventcase"
 MAX_CASE_BYTES = 10_000_000
 MAX_TEXT = TEXT_FIELDS["case-note"].max_chars
 MAX_EARLIER_PLANS = 20
+# What a case holds (its "kind", from schema 2): a ventilated patient (``Case``) or a fish's gill irrigation
+# (``ventset.case_irrigation.IrrigationCase``). A loader for one kind refuses the other, naming the field.
+KIND_VENTILATION = "ventilation"
+KIND_IRRIGATION = "irrigation"
+CASE_KINDS = (KIND_VENTILATION, KIND_IRRIGATION)
 
 
 class CaseError(storage.StorageError):

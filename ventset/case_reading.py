@@ -1,4 +1,4 @@
-"""Reading a case file's current layout (schema 1) field by field: a stored dict becomes a ``Case`` or a refusal.
+"""Reading a case file's current layout (schema 2) field by field: a stored dict becomes a ``Case`` or a refusal.
 
 Every field is checked for its kind, its length and the text policy before the request is rebuilt through the
 one request builder (``ventset.fields.request_from_inputs``); a refusal is ``BadField`` naming the field.
@@ -12,7 +12,15 @@ from collections.abc import Callable
 from dataclasses import MISSING, fields
 from datetime import datetime
 
-from ventset.case_model import MAX_EARLIER_PLANS, MAX_TEXT, SCHEMA_VERSION, Case
+from ventset.case_model import (
+    CASE_KINDS,
+    KIND_IRRIGATION,
+    KIND_VENTILATION,
+    MAX_EARLIER_PLANS,
+    MAX_TEXT,
+    SCHEMA_VERSION,
+    Case,
+)
 from ventset.errors import InputError
 from ventset.fields import FIELDS, SITUATIONS_KEY, TEXT_INPUTS, request_from_inputs
 from ventset.model import ApparatusPart, Circuit, Patient, Request, Strategy, Targets
@@ -60,10 +68,11 @@ def checked_number(value: object, where: str) -> float:
 # The text rule (ventset.textpolicy) of each text field of a stored request, by (record, field).
 _TEXT_RULE = {("Patient", "name"): "name", ("Patient", "custom_species"): "custom-species",
               ("Patient", "species"): "species-text", ("ApparatusPart", "name"): "part-name",
-              ("ApparatusPart", "source"): "part-source"}
+              ("ApparatusPart", "source"): "part-source", ("IrrigationRequest", "name"): "name",
+              ("IrrigationRequest", "species"): "species-text"}
 
 
-def _policy_text(rule: str) -> Callable[[object, str], str]:
+def policy_text(rule: str) -> Callable[[object, str], str]:
     def check(value: object, where: str) -> str:
         if not isinstance(value, str):
             raise BadField(where, f"must be text (got {type_name(value)})")
@@ -82,7 +91,7 @@ def field_checker(annotation: str, rule: str = "choice") -> Callable[[object, st
     if base == "float":
         check: Callable[[object, str], object] = checked_number
     elif base == "str":
-        check = _policy_text(rule)
+        check = policy_text(rule)
     elif base == "tuple[ApparatusPart,...]":
         check = _parts
     elif base == "tuple[str,...]":
@@ -94,7 +103,9 @@ def field_checker(annotation: str, rule: str = "choice") -> Callable[[object, st
     return check
 
 
-def _record(cls: type, data: object, where: str) -> dict:
+def checked_record(cls: type, data: object, where: str) -> dict:
+    """The fields of a stored record of dataclass ``cls``, each checked by its annotation (unknown keys refused, a
+    missing field without a default refused, text by the policy rule in ``_TEXT_RULE``); raises BadField."""
     if not isinstance(data, dict):
         raise BadField(where, f"must be an object (got {type_name(data)})")
     known = {f.name: f for f in fields(cls)}
@@ -114,7 +125,7 @@ def _record(cls: type, data: object, where: str) -> dict:
 
 def _text_list(rule: str) -> Callable[[object, str], list[str]]:
     """A stored list of short texts (the situations), each by the text policy, at most MAX_SITUATIONS."""
-    one = _policy_text(rule)
+    one = policy_text(rule)
 
     def check(value: object, where: str) -> list[str]:
         if not isinstance(value, list):
@@ -130,7 +141,7 @@ def _parts(value: object, where: str) -> list[dict]:
         raise BadField(where, f"must be a list (got {type_name(value)})")
     if len(value) > MAX_PARTS:
         raise BadField(where, f"holds more than {MAX_PARTS} parts")
-    return [_record(ApparatusPart, p, f"{where}[{i}]") for i, p in enumerate(value)]
+    return [checked_record(ApparatusPart, p, f"{where}[{i}]") for i, p in enumerate(value)]
 
 
 def request_from_case_dict(data: object, where: str = "request") -> Request:
@@ -143,7 +154,7 @@ def request_from_case_dict(data: object, where: str = "request") -> Request:
         raise BadField(f"{where}.{unknown[0]}", "is not a field this version knows")
     if "patient" not in data:
         raise BadField(f"{where}.patient", "is missing")
-    clean = {key: _record(cls, data[key], f"{where}.{key}") for key, cls in sections.items() if key in data}
+    clean = {key: checked_record(cls, data[key], f"{where}.{key}") for key, cls in sections.items() if key in data}
     values: dict[str, object] = {}
     for key, path in [*((k, f.path) for k, f in FIELDS.items()), *TEXT_INPUTS.items()]:
         section, attr = path.split(".", 1)
@@ -156,7 +167,7 @@ def request_from_case_dict(data: object, where: str = "request") -> Request:
     return request
 
 
-def _timestamp(value: object, where: str) -> str:
+def checked_timestamp(value: object, where: str) -> str:
     text = checked_text(value, where, 64)
     if text:
         try:
@@ -174,16 +185,35 @@ def _checked_timeline(timeline: list | dict | None) -> list | dict | None:
         for i, entry in enumerate(entries):
             m = entry.get("measurement") if isinstance(entry, dict) else None
             if isinstance(m, dict) and "note" in m and m["note"] is not None:
-                _policy_text("record-note")(m["note"], f"timeline.entries[{i}].measurement.note")
+                policy_text("record-note")(m["note"], f"timeline.entries[{i}].measurement.note")
     return timeline
 
 
-_V1_KEYS = {"format", "schema_version", "ventset_version", "species_version", "created_at", "saved_at", "note",
-            "request", "plan", "plan_error", "timeline", "earlier_plans"}
+_KEYS = {"format", "schema_version", "kind", "ventset_version", "species_version", "created_at", "saved_at", "note",
+         "request", "plan", "plan_error", "timeline", "earlier_plans"}
 
 
-def case_from_v1(data: dict) -> Case:
-    unknown = sorted(set(data) - _V1_KEYS)
+def checked_kind(data: dict, expected: str) -> str:
+    """The case's ``kind``, refused unless it is ``expected`` (the message says where the other kind opens)."""
+    if "kind" not in data:
+        raise BadField("kind", "is missing")
+    kind = data["kind"]
+    if not isinstance(kind, str) or kind not in CASE_KINDS:
+        got = repr(kind[:30]) if isinstance(kind, str) else type_name(kind)
+        raise BadField("kind", f"must be one of {', '.join(CASE_KINDS)} (got {got})")
+    if kind != expected:
+        if kind == KIND_IRRIGATION:
+            raise BadField("kind", "is 'irrigation': this case holds a fish gill-irrigation plan; open it from "
+                                   "the window's Fish irrigation tab or with 'ventset show'")
+        raise BadField("kind", "is 'ventilation': this case holds a ventilation plan; open it from the window's "
+                               "Case menu or with 'ventset show'")
+    return kind
+
+
+def case_from_current(data: dict) -> Case:
+    """A ventilation case from a dict of the current schema (raises BadField naming the field)."""
+    checked_kind(data, KIND_VENTILATION)  # first: a case of the other kind is named as such
+    unknown = sorted(set(data) - _KEYS)
     if unknown:
         raise BadField(unknown[0], f"is not part of case schema {SCHEMA_VERSION}")
     if "request" not in data:
@@ -201,11 +231,11 @@ def case_from_v1(data: dict) -> Case:
         request=request_from_case_dict(data["request"]),
         plan=plan,
         plan_error=checked_text(data.get("plan_error", ""), "plan_error", 2000),
-        created_at=_timestamp(data.get("created_at", ""), "created_at"),
-        saved_at=_timestamp(data.get("saved_at", ""), "saved_at"),
+        created_at=checked_timestamp(data.get("created_at", ""), "created_at"),
+        saved_at=checked_timestamp(data.get("saved_at", ""), "saved_at"),
         ventset_version=checked_text(data.get("ventset_version", ""), "ventset_version", 40),
         species_version=checked_text(data.get("species_version", ""), "species_version", 40),
-        note=_policy_text("case-note")(data.get("note", ""), "note"),
+        note=policy_text("case-note")(data.get("note", ""), "note"),
         timeline=_checked_timeline(timeline),
         earlier_plans=tuple(earlier[-MAX_EARLIER_PLANS:]),
     )

@@ -10,7 +10,9 @@ This module builds, writes, saves and opens cases. The pieces live in their own 
 re-exported here, so ``ventset.cases`` stays the one import path: the records and constants
 (``ventset.case_model``), reading a stored dict field by field (``ventset.case_reading``), the
 migrations (``ventset.case_migration``), comparing a stored plan with a fresh one
-(``ventset.case_compare``) and the recent-files list (``ventset.case_recent``).
+(``ventset.case_compare``) and the recent-files list (``ventset.case_recent``). A case file names its ``kind``:
+this module's ``Case`` is a ventilation case; a fish's gill irrigation case is ``ventset.case_irrigation``, written
+through the same :func:`write_case_data`.
 """
 
 from __future__ import annotations
@@ -24,7 +26,10 @@ from ventset import __version__, storage
 from ventset.case_compare import MAX_DIFFERENCES, compare_plan_dicts
 from ventset.case_migration import MIGRATIONS, migrate, schema_version_of
 from ventset.case_model import (
+    CASE_KINDS,
     FORMAT,
+    KIND_IRRIGATION,
+    KIND_VENTILATION,
     MAX_CASE_BYTES,
     MAX_EARLIER_PLANS,
     MAX_TEXT,
@@ -37,7 +42,7 @@ from ventset.case_model import (
     OpenedCase,
     now_iso,
 )
-from ventset.case_reading import BadField, case_from_v1, request_from_case_dict
+from ventset.case_reading import BadField, case_from_current, request_from_case_dict
 from ventset.case_reading import field_checker as _field_checker
 from ventset.case_recent import (
     RECENT_FILE,
@@ -51,13 +56,13 @@ from ventset.case_recent import (
 from ventset.errors import InputError, VentsetError, visible
 from ventset.model import Request, request_to_dict
 
-__all__ = ["FORMAT", "SCHEMA_VERSION", "SUFFIX", "MAX_CASE_BYTES", "MAX_TEXT", "MAX_EARLIER_PLANS", "MAX_DIFFERENCES",
-           "RECENT_FILE", "RECENT_MAX", "MIGRATIONS", "CaseError", "CaseSaveError", "Case", "LoadedCase", "OpenedCase",
-           "now_iso", "make_case", "case_for_request", "timeline_data", "case_timeline", "case_to_dict",
-           "request_from_case_dict", "schema_version_of", "migrate", "case_from_dict", "load_case", "check_reopens",
-           "save_case", "replan", "open_case", "compare_plan_dicts", "recent_files", "add_recent", "remove_recent",
-           "clear_recent", "recent_labels",
-           "_field_checker"]
+__all__ = ["FORMAT", "SCHEMA_VERSION", "CASE_KINDS", "KIND_VENTILATION", "KIND_IRRIGATION", "SUFFIX",
+           "MAX_CASE_BYTES", "MAX_TEXT", "MAX_EARLIER_PLANS", "MAX_DIFFERENCES", "RECENT_FILE", "RECENT_MAX",
+           "MIGRATIONS", "CaseError", "CaseSaveError", "Case", "LoadedCase", "OpenedCase", "now_iso", "make_case",
+           "case_for_request", "timeline_data", "case_timeline", "case_to_dict", "request_from_case_dict",
+           "schema_version_of", "migrate", "case_from_dict", "load_case", "check_reopens", "save_case",
+           "write_case_data", "opening_notes", "replan", "open_case", "compare_plan_dicts", "recent_files",
+           "add_recent", "remove_recent", "clear_recent", "recent_labels", "_field_checker"]
 
 
 # --------------------------------------------------------------------------------------------
@@ -155,10 +160,11 @@ def _species_version() -> str:
 # --------------------------------------------------------------------------------------------
 
 def case_to_dict(case: Case) -> dict:
-    """The JSON layout of schema version 1 (docs/case-format.md)."""
+    """The JSON layout of the current schema (docs/case-format.md)."""
     out: dict = {
         "format": FORMAT,
         "schema_version": SCHEMA_VERSION,
+        "kind": KIND_VENTILATION,
         "ventset_version": case.ventset_version,
         "species_version": case.species_version,
         "created_at": case.created_at,
@@ -188,7 +194,7 @@ def case_from_dict(data: object) -> tuple[Case, int | None]:
     """Migrate and check a parsed case file; returns (case, migrated_from). Raises ValueError with the reason."""
     try:
         current, old = migrate(data)
-        return case_from_v1(current), old
+        return case_from_current(current), old
     except BadField as bad:
         raise ValueError(str(bad)) from None
 
@@ -220,17 +226,19 @@ def _exists(target: Path, error: type[storage.StorageError] = CaseSaveError) -> 
         raise error(target, storage.os_reason(exc)) from None
 
 
-def _existing_version(target: Path) -> int | None:
-    """Schema version of the case file at ``target``; None if there is none; raises CaseSaveError if foreign."""
+def _existing(target: Path) -> tuple[int, str] | None:
+    """(schema version, kind) of the case file at ``target``; None if there is none; raises CaseSaveError if foreign."""
     if not _exists(target):
         return None
     try:
         data = storage.read_json(target, MAX_CASE_BYTES, error=CaseError)
-        return schema_version_of(data)
+        version = schema_version_of(data)
     except (CaseError, BadField) as exc:
         reason = exc.reason if isinstance(exc, CaseError) else str(exc)
         raise CaseSaveError(target, f"a file is there that is not a readable ventset case ({reason}); "
                                     "choose another name, or replace it on purpose") from None
+    kind = cast(dict, data).get("kind") if version >= 2 else KIND_VENTILATION  # schema_version_of checked a dict
+    return version, kind if isinstance(kind, str) else ""
 
 
 def check_reopens(case: Case) -> dict:
@@ -243,10 +251,8 @@ def check_reopens(case: Case) -> dict:
 def save_case(path: os.PathLike | str, case: Case, *, replace_any: bool = False) -> Case:
     """Write ``case`` atomically; returns it with ``saved_at`` set.
 
-    An existing file at ``path`` is replaced only if it is a ventset case (or ``replace_any``);
-    a case of an older schema is first copied to ``<name>.schema<N>.bak``; a newer one is refused.
-    What the loader would refuse (a name over its limit, ...) is refused here, before anything is written.
-    A symbolic link is saved through: its target gets the case, the link stays.
+    What the loader would refuse (a name over its limit, ...) is refused here, before anything is written;
+    the rest is :func:`write_case_data`.
     """
     target = Path(path)
     saved = replace(case, saved_at=now_iso(), created_at=case.created_at or now_iso())
@@ -254,35 +260,53 @@ def save_case(path: os.PathLike | str, case: Case, *, replace_any: bool = False)
         data = check_reopens(saved)
     except ValueError as exc:
         raise CaseSaveError(target, f"the case would not open again ({exc}); nothing was written") from None
+    write_case_data(target, data, replace_any=replace_any)
+    return saved
+
+
+def write_case_data(target: Path, data: dict, *, replace_any: bool = False) -> None:
+    """Write a checked case dict (any kind) to ``target`` atomically; raises CaseSaveError with the reason.
+
+    An existing file at ``target`` is replaced only if it is a ventset case of the same kind (or ``replace_any``);
+    a case of an older schema is first copied to ``<name>.schema<N>.bak``; a newer one is refused.
+    A symbolic link is saved through: its target gets the case, the link stays.
+    """
     try:
         if target.is_dir():
             raise CaseSaveError(target, "it is a folder, not a file")
     except OSError as exc:
         raise CaseSaveError(target, storage.os_reason(exc)) from None
-    old = None
+    existing = None
     try:
-        old = _existing_version(target)
+        existing = _existing(target)
     except CaseSaveError:
         if not replace_any:
             raise
+    old = existing[0] if existing is not None else None
     if old is not None and old > SCHEMA_VERSION and not replace_any:
         raise CaseSaveError(target, f"it holds a case of schema {old} from a newer ventset; saving would lose what "
                                     "that version stored. Save under another name.")
+    if existing is not None and existing[1] != data["kind"] and not replace_any:
+        held = "a fish gill-irrigation case" if existing[1] == KIND_IRRIGATION else "a ventilation case"
+        raise CaseSaveError(target, f"it holds {held}; save under another name, or replace it on purpose")
     if old is not None and old < SCHEMA_VERSION:
-        backup = target.with_name(f"{target.name}.schema{old}.bak")
-        try:
-            if not backup.exists():
-                storage.atomic_write_bytes(backup, target.read_bytes())
-        except OSError as exc:
-            raise CaseSaveError(target, f"could not keep a copy of the older file first "
-                                        f"({storage.os_reason(exc)})") from None
-        except storage.StorageError as exc:
-            raise CaseSaveError(target, f"could not keep a copy of the older file first ({exc.reason})") from None
+        _keep_backup(target, old)
     try:
         storage.atomic_write_json(target, data)
     except storage.StorageError as exc:
         raise CaseSaveError(target, exc.reason) from None
-    return saved
+
+
+def _keep_backup(target: Path, old: int) -> None:
+    backup = target.with_name(f"{target.name}.schema{old}.bak")
+    try:
+        if not backup.exists():
+            storage.atomic_write_bytes(backup, target.read_bytes())
+    except OSError as exc:
+        raise CaseSaveError(target, f"could not keep a copy of the older file first "
+                                    f"({storage.os_reason(exc)})") from None
+    except storage.StorageError as exc:
+        raise CaseSaveError(target, f"could not keep a copy of the older file first ({exc.reason})") from None
 
 
 def replan(case: Case, library=None) -> tuple[object | None, str, tuple[str, ...]]:
@@ -307,6 +331,25 @@ def replan(case: Case, library=None) -> tuple[object | None, str, tuple[str, ...
     return result, "", diffs
 
 
+def opening_notes(migrated_from: int | None, saved_by: str, diffs: tuple[str, ...], error: str) -> list[str]:
+    """What the user is told on opening any kind of case: an older layout, another ventset, a stored plan that
+    differs from the one computed now (or inputs that no longer plan)."""
+    notes = []
+    if migrated_from is not None:
+        notes.append(f"This case was saved in an older layout (schema {migrated_from}) and was updated "
+                     f"to schema {SCHEMA_VERSION} on opening; the file itself is unchanged until you save "
+                     f"(a copy of the old file is kept then).")
+    if saved_by and saved_by != __version__:
+        notes.append(f"The case was saved by ventset {saved_by}; this is ventset {__version__}.")
+    if diffs:
+        notes.append("The plan computed now from the stored inputs differs from the stored plan:")
+        notes.extend(f"  • {d}" for d in diffs)
+        notes.append("The stored plan stays in the file until you save; saving keeps it under 'earlier plans'.")
+    elif error:
+        notes.append(f"The stored inputs cannot be planned: {error}")
+    return notes
+
+
 def open_case(path: os.PathLike | str, library=None) -> OpenedCase:
     """Load a case, plan its request again and say what the user should know (see OpenedCase)."""
     from ventset.library import load_library
@@ -315,22 +358,11 @@ def open_case(path: os.PathLike | str, library=None) -> OpenedCase:
     loaded = load_case(path)
     case = loaded.case
     result, error, diffs = replan(case, lib)
-    messages = []
-    if loaded.migrated_from is not None:
-        messages.append(f"This case was saved in an older layout (schema {loaded.migrated_from}) and was updated "
-                        f"to schema {SCHEMA_VERSION} on opening; the file itself is unchanged until you save "
-                        f"(a copy of the old file is kept then).")
+    messages = opening_notes(loaded.migrated_from, case.ventset_version, diffs, error)
     if case.species_version and case.species_version != lib.species_version:
-        messages.append(f"The species data changed since this case was saved (version {case.species_version} "
+        messages.insert(1 if loaded.migrated_from is not None else 0,
+                        f"The species data changed since this case was saved (version {case.species_version} "
                         f"then, {lib.species_version} now).")
-    if case.ventset_version and case.ventset_version != __version__:
-        messages.append(f"The case was saved by ventset {case.ventset_version}; this is ventset {__version__}.")
-    if diffs:
-        messages.append("The plan computed now from the stored inputs differs from the stored plan:")
-        messages.extend(f"  • {d}" for d in diffs)
-        messages.append("The stored plan stays in the file until you save; saving keeps it under 'earlier plans'.")
-    elif error:
-        messages.append(f"The stored inputs cannot be planned: {error}")
     if case.timeline is not None:
         try:
             case_timeline(case)

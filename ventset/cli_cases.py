@@ -30,7 +30,8 @@ def _is_file(path: Path) -> bool:
 def register(sub, add_request_options) -> dict:
     """Add `show` and `clinic-parts` to the command line; returns their handlers."""
     p_show = sub.add_parser("show", help="print the plan of a saved case file")
-    p_show.add_argument("case", metavar="CASE", help="a case file saved by 'ventset plan --save' or the window")
+    p_show.add_argument("case", metavar="CASE", help="a case file saved by 'ventset plan --save', 'ventset irrigate "
+                                                     "--save' or the window")
     p_show.add_argument("--json", action="store_true", help="print one JSON object, as 'ventset plan --json'")
     p_show.add_argument("--gas-unit", choices=("mmHg", "kPa"), default="mmHg", help="unit for gas pressures")
     p_show.add_argument("--stored", action="store_true",
@@ -118,10 +119,15 @@ def write_pdf(plan, path: str, gas_unit: str = "mmHg", case_name: str = "", pape
 
 
 def _cmd_show(ns: argparse.Namespace) -> int:
+    from ventset.case_irrigation import OpenedIrrigationCase, open_any_case
     from ventset.library import load_library
     from ventset.report import plan_to_dict, plan_to_text
 
-    opened = cases.open_case(ns.case, load_library())
+    opened = open_any_case(ns.case, load_library())
+    if isinstance(opened, OpenedIrrigationCase):  # a fish's gill irrigation case
+        from ventset.aquatic.cli import show_case
+
+        return show_case(opened, ns)
     if ns.stored:
         if opened.case.plan is None:
             raise cases.CaseError(ns.case, "it holds no stored plan" + (f" ({opened.case.plan_error})"

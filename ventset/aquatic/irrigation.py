@@ -20,6 +20,7 @@ from ventset.errors import InputError
 from ventset.fields import FieldSpec
 from ventset.model import STANDING_NOTICE, Assumption, Caution
 from ventset.physiology.gas import barometric_pressure_mmhg
+from ventset.textpolicy import check_text
 from ventset.units import check_range
 
 
@@ -118,9 +119,36 @@ def request_from_texts(values: dict[str, str | None], *, required: tuple[str, ..
             raise InputError(label, "", f"is required (e.g. {example})" if example else "is required")
     v = {k: parse_optional(k, values.get(k)) for k in TEXT_KEYS}
     saturation, measured = parse_supply_o2(values.get("saturation"))
+    name = check_text("name", name or "")
     return IrrigationRequest(str(values.get("species") or "").strip(), v["mass"] or 0.0, v["water-temperature"],
                              v["salinity"], v["altitude"] or 0.0, v["barometric-pressure"], saturation, measured,
                              v["duration"], v["system-volume"], v["vo2"], v["extraction"], v["demand-factor"], name)
+
+
+_TEXT_OF = (("mass", "mass_kg", " kg"), ("water-temperature", "water_temp_c", ""), ("salinity", "salinity", ""),
+            ("altitude", "altitude_m", " m"), ("barometric-pressure", "barometric_mmhg", " mmHg"),
+            ("duration", "duration_min", " min"), ("system-volume", "system_volume_l", " L"),
+            ("vo2", "vo2_mg_kg_h", ""), ("extraction", "extraction", ""), ("demand-factor", "demand_factor", ""))
+
+
+def _exact(x: float) -> str:
+    """The shortest text that reads back as exactly ``x`` ('2', '0.3', '1e-05')."""
+    text = repr(float(x))
+    return text[:-2] if text.endswith(".0") else text
+
+
+def texts_from_request(req: IrrigationRequest) -> dict[str, str]:
+    """The entry texts (keyed as for :func:`request_from_texts`, plus 'name') that give ``req`` back exactly; a
+    default (None) is an empty text. The inverse used when a stored case is shown in the window."""
+    out = {key: "" if getattr(req, attr) is None else f"{_exact(getattr(req, attr))}{unit}"
+           for key, attr, unit in _TEXT_OF}
+    if req.measured_o2_mg_l is not None:
+        out["saturation"] = f"{_exact(req.measured_o2_mg_l)} mg/L"
+    else:
+        out["saturation"] = "" if req.saturation_percent is None else f"{_exact(req.saturation_percent)} %"
+    if req.altitude_m == 0.0:
+        out["altitude"] = ""
+    return {"species": req.species, "name": req.name, **out}
 
 
 def flow_for_need_l_min(vo2_mg_min: float, o2_in_mg_l: float, extraction: float) -> float:

@@ -190,6 +190,33 @@ def irrigation_to_text(plan: IrrigationPlan) -> str:
     return "\n".join(out)
 
 
+def irrigation_summary(plan: IrrigationPlan) -> str:
+    """A few lines for the clinical record (``ventset show CASE --summary``): the key numbers, the cautions by
+    code and the standing notice."""
+    lines = [f"Gill irrigation plan (ventset {__version__}): " + summary_lines(plan)[0].removeprefix("Patient: "),
+             *summary_lines(plan)[1:4]]
+    lines.append("Cautions: " + ("; ".join(f"{c.severity.upper()} {c.code}" for c in plan.cautions) or "none") + ".")
+    lines.append("Notice: " + plan.standing_notice)
+    return "\n".join(lines)
+
+
+def printout_tiles(plan: IrrigationPlan) -> list[tuple[str, str, str, str]]:
+    """(label, value, unit, detail) of the large-type numbers at the top of the printed page, flow first."""
+    w, m, i = plan.water, plan.metabolism, plan.irrigation
+    value, unit = flow_text(i.flow_l_min).split()
+    k = 1000.0 if unit == "mL/min" else 1.0
+    lo, hi = i.flow_range_l_min
+    return [("Flow to set", value, unit, f"{fmt(i.flow_l_kg_min)} L/kg/min at extraction {fmt(i.extraction)}; "
+                                        "mouth to gills"),
+            ("Flow range", f"{fmt(lo * k)}-{fmt(hi * k)}", unit,
+             f"extraction {fmt(i.extraction_range[0])} to {fmt(i.extraction_range[1])}"),
+            ("O2 in the supply", fmt(w.o2_mg_l), "mg/L", f"{fmt(w.saturation_percent)} % saturation, PO2 "
+                                                         f"{fmt(w.po2_mmhg)} mmHg" + (" (measured)" if w.measured
+                                                                                       else "")),
+            ("O2 need", fmt(m.vo2_mg_h), "mg/h", f"{fmt(m.vo2_ml_min)} mL/min; outflow {fmt(i.outflow_mg_l)} mg/L "
+                                                 f"(fall {fmt(i.o2_fall_mg_l)})")]
+
+
 def printout_lines(plan: IrrigationPlan) -> list[tuple[str, str]]:
     """(style, text) lines for a printed page: "title", "line", "heading", "caution:<severity>", "small",
     "notice". No markup; the printer draws them in order."""

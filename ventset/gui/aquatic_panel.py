@@ -2,7 +2,8 @@
 
 A self-contained view of :mod:`ventset.aquatic` (it computes nothing itself). ``install(window)`` adds it to
 ventset's MainWindow through ``window.add_panel``; the panel's entries are kept in the window's settings, so
-they survive a restart. Every label is plain text.
+they survive a restart. Its case file and printout (open, save, PDF, print) are the row of buttons at the top,
+``ventset.gui.aquatic_case.CaseBar``. Every label is plain text.
 """
 
 from __future__ import annotations
@@ -28,6 +29,7 @@ from ventset.aquatic.irrigation import IrrigationPlan, plan_irrigation, request_
 from ventset.aquatic.plotdata import content_curve, delivery_curve
 from ventset.aquatic.report import summary_lines
 from ventset.errors import InputError
+from ventset.gui.aquatic_case import CaseBar
 from ventset.gui.plots import _new_plot_widget, _pen
 from ventset.gui.text import Text
 from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours
@@ -101,6 +103,8 @@ class AquaticPanel(QWidget):
                           "line and cautions outside this tab belong to the ventilated patient, not to the fish.",
                           body, wrap=True, name="aquatic-scope", lines=2)
         col.addWidget(self.scope)
+        self.case_bar = CaseBar(self, body)  # open / save the fish case, PDF and print
+        col.addWidget(self.case_bar)
         col.addWidget(self._build_form(body))
         self.error_text = Text("", body, wrap=True, name="aquatic-error", lines=1)
         col.addWidget(self.error_text)
@@ -146,8 +150,16 @@ class AquaticPanel(QWidget):
         self.species.currentIndexChanged.connect(lambda _i: self._changed())
         grid.addWidget(_plain_label("Species group", box), 0, 0)
         grid.addWidget(self.species, 0, 1, 1, 3)
-        self.edits: dict[str, QLineEdit] = {}
-        self.labels: dict[str, QLabel] = {}
+        name = QLineEdit(box)  # the patient's name, for the case file and the printout
+        name.setObjectName("aquatic-name")
+        name.setPlaceholderText("optional")
+        name.setAccessibleName("Patient name")
+        name.textEdited.connect(lambda _t: self._changed())
+        self.edits: dict[str, QLineEdit] = {"name": name}
+        self.labels: dict[str, QLabel] = {"name": _plain_label("Patient name", box)}
+        self.labels["name"].setBuddy(name)
+        grid.addWidget(self.labels["name"], 1, 0)
+        grid.addWidget(name, 1, 1, 1, 3)
         for ix, (key, hint) in enumerate(ENTRIES):
             spec = AQUATIC_FIELDS[key]
             edit = QLineEdit(box)
@@ -159,7 +171,7 @@ class AquaticPanel(QWidget):
             label = _plain_label(spec.label, box)
             label.setBuddy(edit)
             self.edits[key], self.labels[key] = edit, label
-            row, pair = 1 + ix // 2, ix % 2
+            row, pair = 2 + ix // 2, ix % 2
             grid.addWidget(label, row, 2 * pair)
             grid.addWidget(edit, row, 2 * pair + 1)
         grid.setColumnStretch(1, 1)
@@ -222,7 +234,8 @@ class AquaticPanel(QWidget):
         """Parse every input and plan; a bad input marks its field and keeps the last plan, marked stale."""
         self._timer.stop()
         try:
-            plan = plan_irrigation(request_from_texts(dict(self.values())), self.data)
+            values = self.values()
+            plan = plan_irrigation(request_from_texts(values, name=values.get("name", "")), self.data)
         except InputError as err:
             self._show_error(err)
             return
@@ -237,7 +250,7 @@ class AquaticPanel(QWidget):
         self.error = err
         self.error_text.setText(f"Not current: {err}")
         self.error_text.setColour(self.theme.danger)
-        self._mark(key_of_label(err.field))
+        self._mark("name" if err.field == "Patient name" else key_of_label(err.field))
         if self.plan is not None:
             self.headline.setText("STALE — the last valid plan is shown; correct the marked entry")
         self.plan_invalid.emit(err)
@@ -354,7 +367,7 @@ def install(window) -> AquaticPanel:
     settings = getattr(window, "settings", None)
     stored: dict[str, str] = {}
     if settings is not None:
-        for key in ("species", *AQUATIC_FIELDS):
+        for key in ("species", "name", *AQUATIC_FIELDS):
             value = settings.value(f"aquatic/{key}")
             if isinstance(value, str):
                 stored[key] = value
