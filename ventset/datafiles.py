@@ -151,6 +151,9 @@ SPECIES_FIELDS: tuple[Field, ...] = (
                   help="with no age entered, a patient lighter than this (and not a neonate) is planned as juvenile"),
     SourcedNumber("inspiratory_time_s", unit="s", **limits("ti"), required=False, default=None,
                   help="default Ti (otherwise the rule in planning.toml)." + same_as("ti")),
+    SourcedNumber("inspiratory_pause_s", unit="s", **limits("inspiratory-pause"), required=False, default=None,
+                  help="default inspiratory pause (no-flow hold inside Ti) for breath-hold species; only with a "
+                       "published source (otherwise leave it out: no pause)." + same_as("inspiratory-pause")),
     Table("rate_mass_scaling", required=False, default=None,
           help="the usual rate range is for reference_mass_kg; at mass M it is multiplied by (M/ref)^exponent",
           fields=(
@@ -304,6 +307,8 @@ CAUTIONS = FileSchema("cautions.toml", "thresholds of the caution rules", doc=(
                       help="an expected or measured PaCO2 above this is a danger (planner and titration)"),
         SourcedNumber("paco2_danger_low_mmhg", **_PACO2,
                       help="an expected PaCO2 below this is a danger (severe hypocapnia)"),
+        _share("pause_share_of_ti_caution", "an inspiratory pause taking this share of Ti or more leaves little "
+               "time for flow: caution"),
         SourcedNumber("thin_data_items", lo=1, hi=4,
                       help="of the four species inputs the expected PaCO2 and pressures rest on (metabolic level, "
                            "airway and alveolar dead space, compliance), this many or more known only from memory "

@@ -85,6 +85,11 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
     FieldSpec("ti", "Inspiratory time", "targets.ti_s", "s", ("s",), 0.05, 10.0,
               "Inspiratory time to use; overrides I:E. Default: about 1 s at 20 kg, scaling with M^0.26 "
               "(Stahl 1967), never longer than the species' I:E allows.", group="targets"),
+    FieldSpec("inspiratory-pause", "Inspiratory pause", "targets.inspiratory_pause_s", "s", ("s",), 0.0, 30.0,
+              "Breath held at the end of inspiration with no flow (plateau time), part of Ti: with Ti or I:E "
+              "entered it comes out of that Ti; otherwise it is added to the usual inspiratory flow time, so Te "
+              "is shorter by the pause. Default: the species value, else none (0 s).", lo_open=False,
+              group="targets"),
     FieldSpec("pressure-limit", "Pressure limit", "targets.pressure_limit_cmh2o", "cmH2O", ("cmH2O", "mbar", "hPa"),
               1.0, 80.0, "Highest airway pressure the plan may use. Default: species value.", lo_open=False,
               group="targets"),

@@ -81,6 +81,7 @@ class Species:
     mechanics_reliable: bool
     notes: tuple[Note, ...]
     inspiratory_time_s: Sourced | None = None
+    inspiratory_pause_s: Sourced | None = None
     rate_scaling: tuple[float, float, str] | None = None  # (reference mass kg, exponent, source)
     airway_dead_space_ml_kg: Sourced | None = None
     neonate_metabolic_factor: Sourced | None = None

@@ -6,6 +6,7 @@ species default", which the plan then lists in its assumptions with the source.
 
 from __future__ import annotations
 
+import math
 from dataclasses import asdict, dataclass, field
 from typing import TYPE_CHECKING
 
@@ -88,6 +89,7 @@ class Targets:
     altitude_m: float = 0.0
     barometric_mmhg: float | None = None
     ti_s: float | None = None
+    inspiratory_pause_s: float | None = None  # no-flow hold at end-inspiration, inside Ti
 
 
 @dataclass(frozen=True)
@@ -180,6 +182,8 @@ class Ventilation:
     expected_etco2_mmhg: float
     target_reached: bool
     delivered_alveolar_ml_min: float
+    pause_s: float = 0.0                # inspiratory pause inside Ti (no flow)
+    te_without_pause_s: float = math.nan  # Te the same timing rule gives at this rate with no pause
 
 
 @dataclass(frozen=True)

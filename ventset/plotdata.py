@@ -435,6 +435,7 @@ def field_defaults(plan: Plan, library: Library | None = None) -> dict[str, floa
         "resistance": p.resistance_cmh2o_l_s, "compressible-volume": p.compressible_ml_cmh2o, "sampling-flow": 0.0,
         "target-paco2": v.target_paco2_mmhg, "target-etco2": v.target_paco2_mmhg - r.gradient_mmhg,
         "gradient": r.gradient_mmhg, "peep": p.peep_cmh2o, "ie": r.ie_expiratory_part, "ti": v.ti_s,
+        "inspiratory-pause": v.pause_s,
         "pressure-limit": p.pressure_limit_cmh2o, "fio2": o.fio2, "altitude": plan.request.targets.altitude_m,
         "barometric-pressure": o.barometric_mmhg, "vt-per-kg": sp.tidal_volume_ml_kg.start,
         "rate": v.rate_per_min,

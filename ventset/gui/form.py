@@ -45,8 +45,8 @@ LAYOUT: dict[str, tuple[list[str], list[str]]] = {
     "patient": (["mass", "lean-mass", "body-temperature", "metabolic-rate"],
                 ["rq", "alveolar-dead-space", "compliance", "resistance"]),
     "circuit": (["tube-id", "tube-length", "compressible-volume"], ["sampling-flow"]),
-    "targets": (["target-paco2", "target-etco2", "gradient", "peep", "ie", "ti", "pressure-limit", "fio2",
-                 "altitude", "barometric-pressure"], []),
+    "targets": (["target-paco2", "target-etco2", "gradient", "peep", "ie", "ti", "inspiratory-pause",
+                 "pressure-limit", "fio2", "altitude", "barometric-pressure"], []),
     "strategy": (["vt-per-kg", "rate"], []),
 }
 GROUP_TITLES = {"patient": "Patient", "circuit": "Breathing system", "targets": "Targets",
@@ -61,6 +61,7 @@ FIELD_ASSUMPTION = {
     "compliance": "Respiratory-system compliance per kg", "resistance": "Airway resistance",
     "compressible-volume": "Circuit compressible volume", "target-paco2": "Target PaCO2",
     "gradient": "PaCO2 − EtCO2 gradient", "peep": "PEEP", "ie": "I:E", "ti": "Inspiratory time",
+    "inspiratory-pause": "Inspiratory pause",
     "pressure-limit": "Pressure limit", "fio2": "FiO2", "barometric-pressure": "Barometric pressure",
     "vt-per-kg": "Starting tidal volume", "rate": "Rate of least work",
 }
