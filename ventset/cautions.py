@@ -425,8 +425,8 @@ def _from_memory_only(source: str) -> bool:
 
 def thin_data(x: Context) -> list[Caution]:
     """Say so when several of the inputs that set the ventilation rest on no published measurement."""
-    if x.plan.request.patient.custom_species.strip():
-        return []  # CUSTOM_SPECIES already says every value is borrowed
+    if x.plan.request.patient.custom_species.strip() or x.plan.request.patient.taxon.strip():
+        return []  # CUSTOM_SPECIES or TAXON_ONLY already says the values are not the species' own
     thin = [words for words, source in _VENTILATION_INPUTS if _from_memory_only(source(x.species))]
     if len(thin) < x.threshold["thin_data_items"]:
         return []
@@ -437,9 +437,26 @@ def thin_data(x: Context) -> list[Caution]:
                     {"species": x.species.label, "what": ", ".join(thin[:-1]) + " and " + thin[-1]})]
 
 
+def taxon_only(x: Context) -> list[Caution]:
+    """A species not listed, planned by its metabolic group alone: say so, and what to watch."""
+    p = x.plan.request.patient
+    if not p.taxon.strip():
+        return []
+    g = x.species.group
+    name = p.custom_species.strip() or "This patient"
+    return [caution("caution", "TAXON_ONLY",
+                    "{name} is planned by its metabolic group alone ({group}): no species entry and no base species, "
+                    "only group allometry (metabolic rate {k_kcal_day}·M^{exponent}, dead space, compliance) and the "
+                    "group's usual ranges. Expect the first PaCO2 to differ from the plan: watch EtCO2, chest or "
+                    "body-wall movement and airway pressure from the first breaths, check an arterial blood gas "
+                    "early, and enter what you measure (temperature, metabolic rate, compliance).",
+                    {"name": name, "group": g.label.lower()}, k_kcal_day=g.k_kcal_day.value,
+                    exponent=g.exponent.value)]
+
+
 def custom_species(x: Context) -> list[Caution]:
     name = x.plan.request.patient.custom_species.strip()
-    if not name:
+    if not name or x.plan.request.patient.taxon.strip():
         return []
     return [caution("caution", "CUSTOM_SPECIES",
                     "{name} is not in the species library: every value not entered comes from {species} (usual "
@@ -453,7 +470,7 @@ RULES: tuple[Callable[[Context], list[Caution]], ...] = (
     short_expiration, driving_pressure, compressible_volume, outside_species_range, limit_moved_the_plan,
     oxygenation, etco2_floor, body_temperature, metabolic_plausibility, peep_high, gradient_unreliable,
     small_patient_capnography, short_inspiration_pressure_mode, inspiratory_pause, mechanics_rough, no_tube_entered,
-    custom_species, thin_data, species_notes,
+    custom_species, taxon_only, thin_data, species_notes,
 )
 
 
@@ -470,5 +487,5 @@ def evaluate(plan: Plan, species: Species, library: Library) -> tuple[Caution, .
 
 def attach(plan: Plan, library: Library) -> Plan:
     """Return ``plan`` with its cautions filled in."""
-    species = plan.basis.inputs.species if plan.basis is not None else library.species[plan.resolved.species]
+    species = plan.basis.inputs.species if plan.basis is not None else library.entry(plan.resolved.species)
     return replace(plan, cautions=evaluate(plan, species, library))

@@ -187,6 +187,14 @@ def _unique_names(v: dict[str, Any], at: Where) -> None:
                         f"{name!r} already names species {seen[folded]!r}")
 
 
+def _taxa_keyed_by_group(v: dict[str, Any], at: Where) -> None:
+    """each [taxa.<key>] is keyed by a group declared in [groups] and names that group"""
+    for key, tx in (v.get("taxa") or {}).items():
+        if key not in v["groups"] or tx["group"] != key:
+            raise at.enter(f"taxon {key!r}").at("group").fail(
+                f"must be the taxon's own key, a group declared in [groups] (known: {', '.join(v['groups'])})")
+
+
 SPECIES = FileSchema("species.toml", "species and metabolic groups", doc=(
     "Starting defaults for each species (to be edited, never a prescription) and the allometric metabolic "
     "groups they draw on. Sign convention: `paco2_etco2_gradient_mmhg` is PaCO2 − EtCO2, so a negative value "
@@ -208,7 +216,12 @@ SPECIES = FileSchema("species.toml", "species and metabolic groups", doc=(
     Entries("species", label="species", fields=SPECIES_FIELDS,
             checks=(unique_note_codes, _dead_space_below_tidal_volume),
             help="One table per species or group of similar species."),
-), checks=(_known_groups, _unique_names))
+    Entries("taxa", label="taxon", fields=SPECIES_FIELDS, required=False, default={},
+            checks=(unique_note_codes, _dead_space_below_tidal_volume),
+            help="Generic planner values for a patient of a metabolic group whose species is not listed (planned "
+                 "by group allometry alone, `--taxon <group>`): the same fields as a species, keyed by the group, "
+                 "each sourced (published allometry where it exists, else common practice or from memory)."),
+), checks=(_known_groups, _unique_names, _taxa_keyed_by_group))
 
 
 # ---------------------------------------------------------------------------------------------------------

@@ -51,6 +51,8 @@ class Patient:
     custom_species: str = ""
     age: str | None = None    # "neonate", "juvenile" or "adult" (AGES); None: by the species' mass thresholds
     state: str = "fasted"     # ectotherms: "fasted", "fed" or "gravid" (STATES)
+    # A species not listed, planned by its metabolic group alone (species.toml [taxa.<group>]); species is then "".
+    taxon: str = ""
 
 
 @dataclass(frozen=True)

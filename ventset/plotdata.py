@@ -427,7 +427,7 @@ def field_defaults(plan: Plan, library: Library | None = None) -> dict[str, floa
     """The value each input field took in this plan when left empty (internal units, FIELDS keys)."""
     from ventset.library import load_library
 
-    sp = (library or load_library()).species[plan.resolved.species]
+    sp = (library or load_library()).entry(plan.resolved.species)
     r, m, v, p, o = plan.resolved, plan.metabolism, plan.ventilation, plan.pressures, plan.oxygen
     out = {
         "lean-mass": r.lean_mass_kg, "body-temperature": r.body_temp_c, "metabolic-rate": m.allometric_rate_w,

@@ -203,11 +203,13 @@ class SpeciesPicker(QComboBox):
         compact(self, 12)
         self.lookup: dict[str, str] = {}
         entries = []
-        for sp in sorted(library.species.values(), key=lambda s: s.label):
-            self.addItem(sp.label, sp.key)
-            self.lookup[sp.label.lower()] = sp.key
-            entries.append(sp.label)
-            for alias in sp.aliases:
+        listed = sorted(library.species.values(), key=lambda s: s.label)
+        for sp in (*listed, *library.taxa.values()):  # then "not listed: by group" (key taxon:<group>)
+            label = sp.label if sp.key in library.species else f"Not listed — by group: {sp.group.label}"
+            self.addItem(label, sp.key)
+            self.lookup[label.lower()] = sp.key
+            entries.append(label)
+            for alias in (*sp.aliases, *sp.young_aliases):
                 text = f"{alias} — {sp.label}"
                 self.lookup[text.lower()] = sp.key
                 self.lookup.setdefault(alias.lower(), sp.key)
@@ -541,7 +543,8 @@ class InputForm(QWidget):
         self.species = SpeciesPicker(self.library, box)
         self._label_row(box, grid, "Species", self.species,
                         "Type any part of a name or alias (e.g. 'budgie', 'pony', 'bearded dragon') and pick "
-                        "from the list. Every default below comes from this entry of the species library.")
+                        "from the list. Every default below comes from this entry of the species library. For a "
+                        "species not listed, pick 'Not listed — by group' to plan from its metabolic group alone.")
         self.species.picked.connect(lambda key: self._push({"species": key}, "Change species"))
         self.species_error = plain(QLabel(box))
         self.species_error.setWordWrap(True)
