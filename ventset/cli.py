@@ -80,7 +80,7 @@ def _species_json(s) -> dict:
             "rate_per_min": [s.rate_per_min.min, s.rate_per_min.max], "body_temperature_c": s.body_temperature_c.start}
 
 
-def _table(rows: list[tuple[str, ...]], head: tuple[str, ...]) -> None:
+def _table(rows: Sequence[tuple[str, ...]], head: tuple[str, ...]) -> None:
     widths = [max(len(r[i]) for r in (head, *rows)) for i in range(len(head))]
     for r in (head, *rows):
         print("  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip())
