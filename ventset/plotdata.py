@@ -283,7 +283,9 @@ def pressure_boundary_vt(plan: Plan, rates_per_min: np.ndarray) -> np.ndarray:
     s = subject_of(plan)
     rates = np.asarray(rates_per_min, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        return np.asarray(s.vt_at_pressure(s.pressure_limit_cmh2o, s.timing.ti_s(rates)), dtype=float)
+        ti = np.asarray(s.timing.ti_s(rates), dtype=float)
+        vt = np.asarray(s.vt_at_pressure(s.pressure_limit_cmh2o, ti), dtype=float)
+    return np.where(ti > s.timing.pause_s, vt, np.nan)  # no boundary where the pause leaves no time for flow
 
 
 def trapping_rate_per_min(plan: Plan, library: Library | None = None, rate_hi: float = 1000.0) -> float:
