@@ -26,6 +26,7 @@ LIMIT_WORDS = {
     "pressure_limit": "the pressure limit",
     "fixed_by_user": "the tidal volume and rate entered",
     "pressure_limit_below_vt_min": "the pressure limit, which allows less than the smallest usual tidal volume",
+    "pause_rate_max": "the highest rate that leaves time to breathe out after the inspiratory pause",
 }
 # Plans that only evaluate given settings (titration, machine dials) make no choice to report.
 NOT_CHOSEN = frozenset({"fixed_by_user", "evaluated"})
@@ -150,14 +151,39 @@ def short_inspiration_pressure_mode(x: Context) -> list[Caution]:
     if x.plan.resolved.mode != "pressure":
         return []
     v, pr = x.plan.ventilation, x.plan.pressures
-    n_tau = v.ti_s / pr.time_constant_s
+    n_tau = (v.ti_s - v.pause_s) / pr.time_constant_s
     if n_tau >= x.threshold["inspiration_tau_pressure_mode"]:
         return []
+    what = "Inspiration {ti_s}" if v.pause_s <= 0 else "Inspiration before the pause {ti_s}"
     return [caution("info", "SHORT_INSPIRATION",
-                    "Inspiration {ti_s} is {time_constants} time constants: in a pressure mode the lung does not "
+                    what + " is {time_constants} time constants: in a pressure mode the lung does not "
                     "fill completely, so the inspiratory pressure is {rise_cmh2o} above PEEP rather than "
-                    "{driving_cmh2o}.", ti_s=v.ti_s, time_constants=n_tau, rise_cmh2o=pr.inspiratory_pressure_cmh2o,
-                    driving_cmh2o=pr.driving_cmh2o)]
+                    "{driving_cmh2o}.", ti_s=v.ti_s - v.pause_s, time_constants=n_tau,
+                    rise_cmh2o=pr.inspiratory_pressure_cmh2o, driving_cmh2o=pr.driving_cmh2o)]
+
+
+def inspiratory_pause(x: Context) -> list[Caution]:
+    """A pause that leaves little of Ti for flow, or that shortens expiration below the safe time constants."""
+    v, pr = x.plan.ventilation, x.plan.pressures
+    if v.pause_s <= 0:
+        return []
+    out, flow_s = [], v.ti_s - v.pause_s
+    if v.pause_s >= x.threshold["pause_share_of_ti_caution"] * v.ti_s:
+        what = "inspiratory flow {flow_l_min} and a peak of {peak_cmh2o}" if x.plan.resolved.mode == "volume" \
+            else "an inspiratory pressure of {peak_cmh2o}"
+        out.append(caution("caution", "PAUSE_LEAVES_LITTLE_FLOW_TIME",
+                           "The inspiratory pause {pause_s} takes {share_percent} of Ti {ti_s}, leaving {flow_s} for "
+                           "the breath to go in: " + what + ". Shorten the pause or lengthen Ti.",
+                           pause_s=v.pause_s, share_percent=v.pause_s / v.ti_s * 100, ti_s=v.ti_s, flow_s=flow_s,
+                           flow_l_min=v.inspiratory_flow_l_min, peak_cmh2o=pr.peak_cmh2o))
+    n_tau, n_without = v.te_s / pr.time_constant_s, v.te_without_pause_s / pr.time_constant_s
+    if n_tau < x.threshold["expiration_tau_caution"] and v.te_without_pause_s > v.te_s + 1e-9:
+        out.append(caution("caution", "PAUSE_SHORTENS_EXPIRATION",
+                           "The inspiratory pause {pause_s} shortens expiration to {te_s} ({time_constants} time "
+                           "constants; {te_without_s}, {time_constants_without} without it): gas is trapped. Shorten "
+                           "the pause or lower the rate.", pause_s=v.pause_s, te_s=v.te_s, time_constants=n_tau,
+                           te_without_s=v.te_without_pause_s, time_constants_without=n_without))
+    return out
 
 
 def _rate_needed(x: Context) -> float:
@@ -400,8 +426,8 @@ def _from_memory_only(source: str) -> bool:
 
 def thin_data(x: Context) -> list[Caution]:
     """Say so when several of the inputs that set the ventilation rest on no published measurement."""
-    if x.plan.request.patient.custom_species.strip():
-        return []  # CUSTOM_SPECIES already says every value is borrowed
+    if x.plan.request.patient.custom_species.strip() or x.plan.request.patient.taxon.strip():
+        return []  # CUSTOM_SPECIES or TAXON_ONLY already says the values are not the species' own
     thin = [words for words, source in _VENTILATION_INPUTS if _from_memory_only(source(x.species))]
     if len(thin) < x.threshold["thin_data_items"]:
         return []
@@ -412,9 +438,26 @@ def thin_data(x: Context) -> list[Caution]:
                     {"species": x.species.label, "what": ", ".join(thin[:-1]) + " and " + thin[-1]})]
 
 
+def taxon_only(x: Context) -> list[Caution]:
+    """A species not listed, planned by its metabolic group alone: say so, and what to watch."""
+    p = x.plan.request.patient
+    if not p.taxon.strip():
+        return []
+    g = x.species.group
+    name = p.custom_species.strip() or "This patient"
+    return [caution("caution", "TAXON_ONLY",
+                    "{name} is planned by its metabolic group alone ({group}): no species entry and no base species, "
+                    "only group allometry (metabolic rate {k_kcal_day}·M^{exponent}, dead space, compliance) and the "
+                    "group's usual ranges. Expect the first PaCO2 to differ from the plan: watch EtCO2, chest or "
+                    "body-wall movement and airway pressure from the first breaths, check an arterial blood gas "
+                    "early, and enter what you measure (temperature, metabolic rate, compliance).",
+                    {"name": name, "group": g.label.lower()}, k_kcal_day=g.k_kcal_day.value,
+                    exponent=g.exponent.value)]
+
+
 def custom_species(x: Context) -> list[Caution]:
     name = x.plan.request.patient.custom_species.strip()
-    if not name:
+    if not name or x.plan.request.patient.taxon.strip():
         return []
     return [caution("caution", "CUSTOM_SPECIES",
                     "{name} is not in the species library: every value not entered comes from {species} (usual "
@@ -427,8 +470,8 @@ RULES: tuple[Callable[[Context], list[Caution]], ...] = (
     tidal_volume_below_dead_space, target_unreachable, settings_fixed, plateau_above_limit, apparatus_share,
     short_expiration, driving_pressure, compressible_volume, outside_species_range, limit_moved_the_plan,
     oxygenation, etco2_floor, body_temperature, metabolic_plausibility, peep_high, gradient_unreliable,
-    small_patient_capnography, short_inspiration_pressure_mode, mechanics_rough, no_tube_entered, custom_species,
-    thin_data, species_notes, *SITUATION_RULES,
+    small_patient_capnography, short_inspiration_pressure_mode, inspiratory_pause, mechanics_rough, no_tube_entered,
+    custom_species, taxon_only, thin_data, species_notes, *SITUATION_RULES,
 )
 
 
@@ -445,5 +488,5 @@ def evaluate(plan: Plan, species: Species, library: Library) -> tuple[Caution, .
 
 def attach(plan: Plan, library: Library) -> Plan:
     """Return ``plan`` with its cautions filled in."""
-    species = plan.basis.inputs.species if plan.basis is not None else library.species[plan.resolved.species]
+    species = plan.basis.inputs.species if plan.basis is not None else library.entry(plan.resolved.species)
     return replace(plan, cautions=evaluate(plan, species, library))

@@ -39,8 +39,11 @@ def build_parser() -> argparse.ArgumentParser:
     p_plan.add_argument("--json", action="store_true", help="print one JSON object")
     p_plan.add_argument("--gas-unit", choices=("mmHg", "kPa"), default="mmHg", help="unit for gas pressures")
     sub.add_parser("demo", help="print the plan for the demo patient")
-    p_sp = sub.add_parser("species", help="list the species library")
-    p_sp.add_argument("--json", action="store_true")
+    p_sp = sub.add_parser("species", help="list the species library (or the entries a name or alias finds)")
+    p_sp.add_argument("search", nargs="?", default="", metavar="NAME",
+                      help="show only the entries whose key, label or any alias contains NAME (e.g. 'sea lion')")
+    p_sp.add_argument("--json", action="store_true", help="one JSON list (key, label, group, aliases, young "
+                                                          "aliases, mass range, usual ranges) for scripts")
     p_parts = sub.add_parser("parts", help="list the apparatus catalogue")
     p_parts.add_argument("--json", action="store_true")
     p_gui = sub.add_parser("gui", help="open the desktop window (with a case file: open that case)")
@@ -75,32 +78,50 @@ def _cmd_plan(ns: argparse.Namespace) -> int:
     return 0
 
 
-def _cmd_species(ns: argparse.Namespace) -> int:
-    """List the species library: key, label, metabolic group, usual VT and rate, mass range (or JSON)."""
-    from ventset.library import load_library
+def _species_json(s) -> dict:
+    return {"key": s.key, "label": s.label, "group": s.group.key, "group_label": s.group.label,
+            "mass_kg": [s.mass_kg.min, s.mass_kg.max], "aliases": list(s.aliases),
+            "young_aliases": list(s.young_aliases),
+            "tidal_volume_ml_kg": [s.tidal_volume_ml_kg.min, s.tidal_volume_ml_kg.max],
+            "rate_per_min": [s.rate_per_min.min, s.rate_per_min.max], "body_temperature_c": s.body_temperature_c.start}
 
-    lib = load_library()
-    if ns.json:
-        print_json([{"key": s.key, "label": s.label, "group": s.group.key, "group_label": s.group.label,
-                     "mass_kg": [s.mass_kg.min, s.mass_kg.max], "aliases": list(s.aliases),
-                     "tidal_volume_ml_kg": [s.tidal_volume_ml_kg.min, s.tidal_volume_ml_kg.max],
-                     "rate_per_min": [s.rate_per_min.min, s.rate_per_min.max],
-                     "body_temperature_c": s.body_temperature_c.start} for s in lib.species.values()])
-        return 0
-    label_w = 40
 
-    def cut(text: str, width: int) -> str:
-        return text if len(text) <= width else text[: width - 1] + "…"
-
-    rows = [(s.key, cut(s.label, label_w), s.group.key, f"{s.tidal_volume_ml_kg.min:g}-{s.tidal_volume_ml_kg.max:g}",
-             f"{s.rate_per_min.min:g}-{s.rate_per_min.max:g}", f"{s.mass_kg.min:g}-{s.mass_kg.max:g}")
-            for s in lib.species.values()]
-    head = ("key", "species", "group", "VT mL/kg", "rate /min", "mass kg")
+def _table(rows: Sequence[tuple[str, ...]], head: tuple[str, ...]) -> None:
     widths = [max(len(r[i]) for r in (head, *rows)) for i in range(len(head))]
     for r in (head, *rows):
         print("  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip())
-    print(f"{len(rows)} species in {len({s.group.key for s in lib.species.values()})} metabolic groups; "
-          "rate ranges are for a typical adult and scale with mass where the entry says so.")
+
+
+def _cmd_species(ns: argparse.Namespace) -> int:
+    """List the species library: key, label, metabolic group, usual VT and rate, mass range (or JSON); with a NAME,
+    only the entries whose key, label or an alias contains it, with their aliases."""
+    from ventset.library import load_library
+
+    lib = load_library()
+    found = [s for s in lib.species.values() if not ns.search.strip() or s.matches(ns.search)]
+    if not found:
+        raise InputError("species", ns.search, "matches no species, label or alias; for a species not listed, plan "
+                                               "it by its metabolic group (ventset plan --taxon GROUP)")
+    if ns.json:
+        print_json([_species_json(s) for s in found])
+        return 0
+
+    def cut(text: str, width: int = 40) -> str:
+        return text if len(text) <= width else text[: width - 1] + "…"
+
+    rows = [(s.key, cut(s.label), s.group.key, f"{s.tidal_volume_ml_kg.min:g}-{s.tidal_volume_ml_kg.max:g}",
+             f"{s.rate_per_min.min:g}-{s.rate_per_min.max:g}", f"{s.mass_kg.min:g}-{s.mass_kg.max:g}") for s in found]
+    _table(rows, ("key", "species", "group", "VT mL/kg", "rate /min", "mass kg"))
+    if ns.search.strip():
+        for s in found:
+            names = ", ".join((*s.aliases, *s.young_aliases)) or "none"
+            print(f"  {s.key}: {one_line(names)}")
+        return 0
+    print(f"{len(rows)} species in {len({s.group.key for s in found})} metabolic groups; rate ranges are for a "
+          "typical adult and scale with mass where the entry says so.")
+    print("\nNot listed? Plan by metabolic group alone (ventset plan --taxon GROUP --mass ... --temperature ...):")
+    _table([(g, cut(tx.label, 60), f"{tx.mass_kg.min:g}-{tx.mass_kg.max:g}") for g, tx in lib.taxa.items()],
+           ("GROUP", "entry", "mass kg"))
     return 0
 
 

@@ -15,7 +15,10 @@ from ventset.model import AGES, MODES, STATES, STRATEGIES, Request
 
 # The options that fill the request's text inputs: input key → argparse destination.
 TEXT_OPTIONS = {"species": "species", "name": "name", "custom-species": "custom_species", "mode": "mode",
-                "circuit": "circuit", "strategy": "strategy", "age": "age", "state": "state", "machine": "machine"}
+                "circuit": "circuit", "strategy": "strategy", "age": "age", "state": "state", "machine": "machine",
+                "taxon": "taxon"}
+# Other spellings an input's option accepts (the first is the input's key).
+OPTION_ALIASES = {"body-temperature": ("--temperature",)}
 
 
 def say(message: str) -> None:
@@ -35,7 +38,12 @@ def dest(key: str) -> str:
 
 def add_request_options(p: argparse.ArgumentParser) -> None:
     """The options of one patient's request (species, name, parts, every FieldSpec)."""
-    p.add_argument("--species", required=True, help="species key, name or alias (see 'ventset species')")
+    p.add_argument("--species", help="species key, name or alias (see 'ventset species'); or --taxon")
+    p.add_argument("--taxon", metavar="GROUP",
+                   help="a species not listed, planned by its metabolic group alone from group allometry (no base "
+                        "species; a caution says so): placental, marsupial, monotreme, passerine, non_passerine, "
+                        "reptile, reptile_boid, reptile_chelonian, reptile_lizard, reptile_crocodilian. Enter the "
+                        "mass and the measured body temperature")
     p.add_argument("--name", default="", help="patient name for the printout (one line, at most 500 characters)")
     p.add_argument("--custom-species", default="", metavar="NAME",
                    help="a species not in the library, planned with the values of --species (its base) unless "
@@ -58,7 +66,7 @@ def add_request_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--machine", metavar="KEY",
                    help="a ventilator class (see 'ventset machines'): the plan is also dialled on its controls")
     for spec in FIELDS.values():
-        p.add_argument(f"--{spec.key}", dest=dest(spec.key), metavar="VALUE",
+        p.add_argument(f"--{spec.key}", *OPTION_ALIASES.get(spec.key, ()), dest=dest(spec.key), metavar="VALUE",
                        help=f"{spec.help} [{_unit_help(spec.unit)}]".replace("%", "%%"))
 
 

@@ -152,6 +152,9 @@ SPECIES_FIELDS: tuple[Field, ...] = (
                   help="with no age entered, a patient lighter than this (and not a neonate) is planned as juvenile"),
     SourcedNumber("inspiratory_time_s", unit="s", **limits("ti"), required=False, default=None,
                   help="default Ti (otherwise the rule in planning.toml)." + same_as("ti")),
+    SourcedNumber("inspiratory_pause_s", unit="s", **limits("inspiratory-pause"), required=False, default=None,
+                  help="default inspiratory pause (no-flow hold inside Ti) for breath-hold species; only with a "
+                       "published source (otherwise leave it out: no pause)." + same_as("inspiratory-pause")),
     Table("rate_mass_scaling", required=False, default=None,
           help="the usual rate range is for reference_mass_kg; at mass M it is multiplied by (M/ref)^exponent",
           fields=(
@@ -185,6 +188,14 @@ def _unique_names(v: dict[str, Any], at: Where) -> None:
                         f"{name!r} already names species {seen[folded]!r}")
 
 
+def _taxa_keyed_by_group(v: dict[str, Any], at: Where) -> None:
+    """each [taxa.<key>] is keyed by a group declared in [groups] and names that group"""
+    for key, tx in (v.get("taxa") or {}).items():
+        if key not in v["groups"] or tx["group"] != key:
+            raise at.enter(f"taxon {key!r}").at("group").fail(
+                f"must be the taxon's own key, a group declared in [groups] (known: {', '.join(v['groups'])})")
+
+
 SPECIES = FileSchema("species.toml", "species and metabolic groups", doc=(
     "Starting defaults for each species (to be edited, never a prescription) and the allometric metabolic "
     "groups they draw on. Sign convention: `paco2_etco2_gradient_mmhg` is PaCO2 − EtCO2, so a negative value "
@@ -206,7 +217,12 @@ SPECIES = FileSchema("species.toml", "species and metabolic groups", doc=(
     Entries("species", label="species", fields=SPECIES_FIELDS,
             checks=(unique_note_codes, _dead_space_below_tidal_volume),
             help="One table per species or group of similar species."),
-), checks=(_known_groups, _unique_names))
+    Entries("taxa", label="taxon", fields=SPECIES_FIELDS, required=False, default={},
+            checks=(unique_note_codes, _dead_space_below_tidal_volume),
+            help="Generic planner values for a patient of a metabolic group whose species is not listed (planned "
+                 "by group allometry alone, `--taxon <group>`): the same fields as a species, keyed by the group, "
+                 "each sourced (published allometry where it exists, else common practice or from memory)."),
+), checks=(_known_groups, _unique_names, _taxa_keyed_by_group))
 
 
 # ---------------------------------------------------------------------------------------------------------
@@ -305,6 +321,8 @@ CAUTIONS = FileSchema("cautions.toml", "thresholds of the caution rules", doc=(
                       help="an expected or measured PaCO2 above this is a danger (planner and titration)"),
         SourcedNumber("paco2_danger_low_mmhg", **_PACO2,
                       help="an expected PaCO2 below this is a danger (severe hypocapnia)"),
+        _share("pause_share_of_ti_caution", "an inspiratory pause taking this share of Ti or more leaves little "
+               "time for flow: caution"),
         SourcedNumber("thin_data_items", lo=1, hi=4,
                       help="of the four species inputs the expected PaCO2 and pressures rest on (metabolic level, "
                            "airway and alveolar dead space, compliance), this many or more known only from memory "

@@ -16,7 +16,7 @@ Model, steady state:
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, fields, replace
 from typing import Any
 
 from ventset.elementwise import is_scalar, larger, smaller
@@ -38,7 +38,8 @@ class TimingRule:
 
     An entered Ti is held; an entered I:E gives Ti = (60/f)/(1 + E); otherwise the shorter of the
     typical Ti for the patient (species value, or ≈1 s at 20 kg × (M/20)^0.26, Stahl 1967) and the Ti the
-    species' usual I:E gives. ``pause_s`` is an inspiratory pause inside Ti (no flow; plateau held).
+    species' usual I:E gives. ``pause_s`` is an inspiratory pause inside Ti (no flow; plateau held): with Ti
+    or I:E entered it comes out of that Ti, otherwise it is added to the rule's flow time, so Te is shorter.
     """
 
     entered_ti_s: float | None
@@ -48,13 +49,38 @@ class TimingRule:
     pause_s: float = 0.0
 
     def ti_s(self, rate_per_min: Num) -> Num:
-        """Inspiratory time (s) at a rate (float or array)."""
+        """Inspiratory time (s) at a rate (float or array), the pause included."""
         cycle = 60.0 / rate_per_min
         if self.entered_ti_s is not None:
             return cycle * 0.0 + self.entered_ti_s
         if self.entered_ie is not None:
             return cycle / (1.0 + self.entered_ie)
-        return smaller(self.typical_ti_s, cycle / (1.0 + self.species_ie))
+        return smaller(self.typical_ti_s, cycle / (1.0 + self.species_ie)) + self.pause_s
+
+    def flow_time_s(self, rate_per_min: Num) -> Num:
+        """The part of Ti with inspiratory flow (s): Ti − pause (≤ 0 means the pause fills Ti)."""
+        return self.ti_s(rate_per_min) - self.pause_s
+
+    def fits(self, rate_per_min: float) -> bool:
+        """Ti keeps under MAX_TI_FRACTION of the cycle and the pause leaves time for flow at this rate."""
+        ti = float(self.ti_s(rate_per_min))
+        return self.pause_s < ti < MAX_TI_FRACTION * 60.0 / rate_per_min
+
+    def highest_rate_per_min(self, lo: float = 0.01, hi: float = 1000.0) -> float:
+        """The highest rate (/min) at which the breath still ``fits`` (bisection: the rates that fit are those
+        below one rate, since Ti falls no faster than the cycle); ``hi`` if all fit, 0 if none does."""
+        if self.fits(hi):
+            return hi
+        if not self.fits(lo):
+            return 0.0
+        for _ in range(60):
+            mid = (lo * hi) ** 0.5
+            lo, hi = (mid, hi) if self.fits(mid) else (lo, mid)
+        return lo
+
+    def te_without_pause_s(self, rate_per_min: float) -> float:
+        """Te (s) this rule would give at the rate with no pause (to show what the pause costs)."""
+        return 60.0 / rate_per_min - float(replace(self, pause_s=0.0).ti_s(rate_per_min))
 
     def rule_at(self, rate_per_min: float) -> str:
         """Which rule set Ti at this rate: 'entered_ti', 'entered_ie', 'typical_ti' or 'species_ie'."""
@@ -122,10 +148,11 @@ class Subject:
 
     def vt_at_pressure(self, pressure_cmh2o: float, ti_s: Num) -> Num:
         """Largest tidal volume (mL) whose peak (volume mode) or square pressure (pressure mode) is ``pressure``."""
+        flow_s = ti_s - self.timing.pause_s
         if self.mode == "pressure":
-            return mechanics.vt_at_square_pressure(pressure_cmh2o - self.peep_cmh2o, ti_s, self.compliance_ml_cmh2o,
+            return mechanics.vt_at_square_pressure(pressure_cmh2o - self.peep_cmh2o, flow_s, self.compliance_ml_cmh2o,
                                                    self.time_constant_s)
-        return mechanics.vt_at_peak_constant_flow(pressure_cmh2o, ti_s - self.timing.pause_s, self.compliance_ml_cmh2o,
+        return mechanics.vt_at_peak_constant_flow(pressure_cmh2o, flow_s, self.compliance_ml_cmh2o,
                                                   self.resistance_cmh2o_l_s, self.peep_cmh2o)
 
     def rate_for_vt(self, va_ml_min: float, vt_ml: float) -> float:
@@ -147,7 +174,7 @@ class Evaluation:
     etco2_floored: bool
     ti_s: float
     te_s: float
-    ti_fits: bool
+    ti_fits: bool  # expiration keeps its share of the cycle and the pause leaves time for flow
     ie_expiratory_part: float
     plateau_cmh2o: float
     peak_cmh2o: float
@@ -161,6 +188,12 @@ class Evaluation:
     pao2_floored: bool
 
     peep_cmh2o: float
+    pause_s: float = 0.0
+
+    @property
+    def flow_time_s(self) -> float:
+        """The part of Ti with inspiratory flow (s)."""
+        return self.ti_s - self.pause_s
 
     @property
     def driving_cmh2o(self) -> float:
@@ -169,14 +202,16 @@ class Evaluation:
 
 
 def _airway(s: Subject, vt: Num, ti: Num) -> tuple[Num, Num, Num]:
-    """Plateau, peak (or the square pressure in pressure mode) and the rise above PEEP (cmH2O)."""
+    """Plateau, peak (or the square pressure in pressure mode) and the rise above PEEP (cmH2O).
+
+    Flow (or the square pressure) lasts Ti − pause; during the pause the airway pressure is the plateau."""
     c, tau = s.compliance_ml_cmh2o, s.time_constant_s
     plateau = mechanics.plateau_cmh2o(vt, c, s.peep_cmh2o)
+    flow_s = ti - s.timing.pause_s
     if s.mode == "pressure":
-        rise = mechanics.pressure_control_delta_cmh2o(vt, ti, c, tau)
+        rise = mechanics.pressure_control_delta_cmh2o(vt, flow_s, c, tau)
     else:
-        rise = mechanics.peak_cmh2o_constant_flow(vt, ti - s.timing.pause_s, c, s.resistance_cmh2o_l_s,
-                                                  s.peep_cmh2o) - s.peep_cmh2o
+        rise = mechanics.peak_cmh2o_constant_flow(vt, flow_s, c, s.resistance_cmh2o_l_s, s.peep_cmh2o) - s.peep_cmh2o
     return plateau, s.peep_cmh2o + rise, rise
 
 
@@ -200,7 +235,7 @@ def _evaluation(s: Subject, vt_ml: Num, rate_per_min: Num) -> Evaluation:
     va = rate_per_min * exchange
     paco2 = _paco2(s, va)
     etco2 = paco2 - s.gradient_mmhg
-    ti = s.timing.ti_s(rate_per_min)
+    ti, pause = s.timing.ti_s(rate_per_min), s.timing.pause_s
     cycle = 60.0 / rate_per_min
     te = cycle - ti
     plateau, peak, rise = _airway(s, vt_ml, ti)
@@ -211,11 +246,11 @@ def _evaluation(s: Subject, vt_ml: Num, rate_per_min: Num) -> Evaluation:
     return Evaluation(
         vt_ml=vt_ml, rate_per_min=rate_per_min, exchange_ml=exchange, alveolar_ml_min=larger(va, 0.0),
         minute_ml_min=vt_ml * rate_per_min, paco2_mmhg=paco2, etco2_mmhg=larger(etco2, 0.0),
-        etco2_floored=etco2 < 0, ti_s=ti, te_s=te, ti_fits=ti < MAX_TI_FRACTION * cycle,
+        etco2_floored=etco2 < 0, ti_s=ti, te_s=te, ti_fits=(ti < MAX_TI_FRACTION * cycle) & (ti > pause),
         ie_expiratory_part=te / ti, plateau_cmh2o=plateau, peak_cmh2o=peak, inspiratory_pressure_cmh2o=rise,
-        compressed_ml=compressed, set_vt_ml=set_vt, inspiratory_flow_l_min=set_vt / 1000.0 / (ti - s.timing.pause_s)
-        * 60.0, te_tau=te / tau, ti_tau=ti / tau, pao2_mmhg=larger(pao2, 0.0), pao2_floored=pao2 < 0,
-        peep_cmh2o=s.peep_cmh2o)
+        compressed_ml=compressed, set_vt_ml=set_vt, inspiratory_flow_l_min=set_vt / 1000.0 / (ti - pause) * 60.0,
+        te_tau=te / tau, ti_tau=ti / tau, pao2_mmhg=larger(pao2, 0.0), pao2_floored=pao2 < 0,
+        peep_cmh2o=s.peep_cmh2o, pause_s=pause)
 
 
 def evaluate(s: Subject, vt_ml: float, rate_per_min: float) -> Evaluation:
@@ -289,4 +324,5 @@ def evaluate_grid(s: Subject, vt_ml: Any, rate_per_min: Any) -> GridEvaluation:
     shape = (rate.shape[0], vt.shape[1])
     return GridEvaluation(vt[0], rate[:, 0], paco2, np.broadcast_to(ti, shape), np.broadcast_to(cycle - ti, shape),
                           np.broadcast_to(plateau, shape), np.broadcast_to(peak, shape),
-                          np.broadcast_to(exchange, shape), np.broadcast_to(ti < MAX_TI_FRACTION * cycle, shape))
+                          np.broadcast_to(exchange, shape),
+                          np.broadcast_to((ti < MAX_TI_FRACTION * cycle) & (ti > s.timing.pause_s), shape))

@@ -85,6 +85,11 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
     FieldSpec("ti", "Inspiratory time", "targets.ti_s", "s", ("s",), 0.05, 10.0,
               "Inspiratory time to use; overrides I:E. Default: about 1 s at 20 kg, scaling with M^0.26 "
               "(Stahl 1967), never longer than the species' I:E allows.", group="targets"),
+    FieldSpec("inspiratory-pause", "Inspiratory pause", "targets.inspiratory_pause_s", "s", ("s",), 0.0, 30.0,
+              "Breath held at the end of inspiration with no flow (plateau time), part of Ti: with Ti or I:E "
+              "entered it comes out of that Ti; otherwise it is added to the usual inspiratory flow time, so Te "
+              "is shorter by the pause. Default: the species value, else none (0 s).", lo_open=False,
+              group="targets"),
     FieldSpec("pressure-limit", "Pressure limit", "targets.pressure_limit_cmh2o", "cmH2O", ("cmH2O", "mbar", "hPa"),
               1.0, 80.0, "Highest airway pressure the plan may use. Default: species value.", lo_open=False,
               group="targets"),
@@ -113,12 +118,15 @@ FIELDS: dict[str, FieldSpec] = {f.key: f for f in (
 TEXT_INPUTS: dict[str, str] = {"species": "patient.species", "name": "patient.name",
                                "custom-species": "patient.custom_species", "mode": "circuit.mode",
                                "circuit": "circuit.circuit_type", "strategy": "strategy.name",
-                               "age": "patient.age", "state": "patient.state", "machine": "circuit.machine"}
+                               "age": "patient.age", "state": "patient.state", "machine": "circuit.machine",
+                               "taxon": "patient.taxon"}
 TEXT_POLICY = {"species": "species-text", "name": "name", "custom-species": "custom-species", "mode": "choice",
-               "circuit": "choice", "strategy": "choice", "age": "choice", "state": "choice", "machine": "choice"}
+               "circuit": "choice", "strategy": "choice", "age": "choice", "state": "choice", "machine": "choice",
+               "taxon": "choice"}
 INPUT_LABELS = {"species": "Species", "name": "Patient name", "custom-species": "Custom species", "mode": "Mode",
                 "circuit": "Circuit type", "strategy": "Strategy", "apparatus": "Apparatus", "age": "Age",
-                "state": "Physiological state", "situation": "Situation", "machine": "Ventilator class"}
+                "state": "Physiological state", "situation": "Situation", "machine": "Ventilator class",
+                "taxon": "Metabolic group (species not listed)"}
 PARTS_PATH = "circuit.parts"
 # The situations (a list of keys, checked against resources/situations.toml by the planner).
 SITUATIONS_KEY, SITUATIONS_PATH = "situations", "patient.situations"
@@ -224,9 +232,10 @@ def request_from_inputs(values: Mapping[str, object], parts: Sequence[ApparatusP
             errors.append(err)
     if values.get("mass") is None and "mass" not in {e.key for e in errors}:
         errors.append(InputError("mass", "", "is needed: enter the weighed body mass (e.g. '20 kg')"))
+    by_group = isinstance(values.get("taxon"), str) and bool(str(values.get("taxon")).strip())
     for key, path in TEXT_INPUTS.items():
         try:
-            text = _text_input(key, values.get(key), library)
+            text = _text_input(key, values.get(key), library, by_group)
         except InputError as err:
             errors.append(err)
             continue
@@ -271,10 +280,16 @@ def _situation_keys(value: object, library) -> tuple[str, ...]:
     return tuple(dict.fromkeys(keys))
 
 
-def _text_input(key: str, value: object, library) -> str | None:
+def _text_input(key: str, value: object, library, by_group: bool = False) -> str | None:
+    if key == "species" and by_group:
+        return _species_beside_taxon(value)
+    if value is None and key == "species" and library is not None:
+        value = ""  # not entered: said below, with what to do
     if value is None:
         return "volume_first" if key == "strategy" else None
     text = check_text(TEXT_POLICY[key], value, label=INPUT_LABELS[key])
+    if key == "taxon":
+        return _taxon_input(text, library)
     if key in ("mode", "circuit", "machine") and not text:
         return None
     if key == "strategy" and not text:
@@ -284,12 +299,36 @@ def _text_input(key: str, value: object, library) -> str | None:
     if key == "state" and not text:
         return "fasted"
     if key == "species" and library is not None:
-        sp = library.find_species(text) if text.strip() else None
+        if not text.strip():
+            raise InputError("species", text, "is needed: type a name and pick from the list, or plan a species "
+                                              "not listed by its metabolic group (--taxon)")
+        sp = library.find_species(text)
         if sp is None:
             raise InputError("species", text, "is not in the library; type part of a name and pick from the list "
                                               "(all species: 'ventset species')")
         return sp.key
     return text
+
+
+def _species_beside_taxon(value: object) -> str:
+    """A taxon-only patient has no species: refuse one typed as well (which would the plan follow?)."""
+    if isinstance(value, str) and value.strip():
+        raise InputError("species", value, "give a listed species or a metabolic group for one not listed (taxon), "
+                                           "not both")
+    return ""
+
+
+def _taxon_input(text: str, library) -> str | None:
+    """The metabolic group key of a taxon-only patient ('' or None: none chosen)."""
+    if not text.strip():
+        return None
+    if library is None:
+        return text.strip()
+    tx = library.find_taxon(text)
+    if tx is None:
+        raise InputError("taxon", text, f"is not a metabolic group with values for a species not listed; "
+                                        f"one of {', '.join(library.taxa)}")
+    return tx.group.key
 
 
 def inputs_from_request(request: Request) -> tuple[dict[str, object], tuple[ApparatusPart, ...]]:

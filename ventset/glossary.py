@@ -20,7 +20,14 @@ TERMS: dict[str, tuple[str, str, str]] = {
     "ti": ("Inspiratory time (Ti)", "Time from the start of inspiration to the start of expiration.",
            "about 1 s at 20 kg scaled by M^0.26 (Stahl 1967), or from I:E"),
     "te": ("Expiratory time (Te)", "Cycle time 60/rate minus the inspiratory time.", "derived"),
-    "flow": ("Inspiratory flow", "Constant flow that delivers the set tidal volume over Ti (set VT / Ti). In a "
+    "pause": ("Inspiratory pause", "A hold at the end of inspiration with no flow, part of Ti: the volume stays in "
+              "the lung and the airway pressure falls to the plateau. With Ti or I:E entered it comes out of that "
+              "Ti; otherwise it is added to the usual inspiratory time, so Te is shorter by it.",
+              "entered (or a species value with its source); equation of motion with no flow (Bates 2009)"),
+    "te_without_pause": ("Expiratory time without the pause", "The Te the same timing rule would give at this "
+                         "rate with no pause, and both in time constants τ: what the pause costs expiration.",
+                         "derived"),
+    "flow": ("Inspiratory flow", "Constant flow that delivers the set tidal volume over Ti − pause. In a "
              "pressure-controlled mode this tile shows the inspiratory pressure above PEEP instead.",
              "derived"),
     "peep": ("PEEP", "Positive end-expiratory pressure: airway pressure held at the end of expiration.",

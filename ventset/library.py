@@ -18,11 +18,13 @@ from ventset.resources import resource_dir, resource_path
 from ventset.schema import Sourced, SourcedNumber, Span, Where
 from ventset.situations import Situation, build_situation
 
-__all__ = ["SEVERITIES", "GROUPS", "Sourced", "Span", "Note", "Group", "Species", "Part", "CircuitType", "Library",
-           "load_library", "load_resource", "load_resource_file", "parse_species", "parse_apparatus",
-           "parse_sourced_table"]
+__all__ = ["SEVERITIES", "GROUPS", "TAXON_PREFIX", "Sourced", "Span", "Note", "Group", "Species", "Part",
+           "CircuitType", "Library", "load_library", "load_resource", "load_resource_file", "parse_species",
+           "parse_apparatus", "parse_sourced_table"]
 
 SEVERITIES = ("info", "caution", "danger")
+# The key a taxon-only patient's entry carries (Resolved.species): the prefix and the metabolic group.
+TAXON_PREFIX = "taxon:"
 GROUPS = ("placental", "marsupial", "passerine", "non_passerine", "reptile")
 
 
@@ -82,6 +84,7 @@ class Species:
     mechanics_reliable: bool
     notes: tuple[Note, ...]
     inspiratory_time_s: Sourced | None = None
+    inspiratory_pause_s: Sourced | None = None
     rate_scaling: tuple[float, float, str] | None = None  # (reference mass kg, exponent, source)
     airway_dead_space_ml_kg: Sourced | None = None
     neonate_metabolic_factor: Sourced | None = None
@@ -149,6 +152,23 @@ class Library:
     planning: dict[str, Sourced] = field(default_factory=dict)
     situations: dict[str, Situation] = field(default_factory=dict)
     co2_stores: dict[str, Sourced] = field(default_factory=dict)
+    # Generic entries for a species not listed, by metabolic group key (species.toml [taxa.*]); each carries
+    # the key TAXON_PREFIX + group, so it is never taken for a listed species.
+    taxa: dict[str, Species] = field(default_factory=dict)
+
+    def find_taxon(self, text: str) -> Species | None:
+        """The taxon-only entry for a metabolic group, by group key ('non_passerine', 'non-passerine',
+        'taxon:placental') or group label; None if there is none."""
+        t = text.strip().lower().removeprefix(TAXON_PREFIX).replace(" ", "_").replace("-", "_")
+        if t in self.taxa:
+            return self.taxa[t]
+        return next((tx for tx in self.taxa.values() if text.strip().lower() == tx.group.label.lower()), None)
+
+    def entry(self, key: str) -> Species:
+        """The entry a plan was made with (Resolved.species): a listed species or a taxon-only entry."""
+        if key.startswith(TAXON_PREFIX):
+            return self.taxa[key.removeprefix(TAXON_PREFIX)]
+        return self.species[key]
 
     def find_species(self, text: str) -> Species | None:
         """Species by key, label or alias (exact first, then a unique partial match)."""
@@ -232,6 +252,10 @@ def _build_species(v: dict[str, Any]) -> tuple[dict[str, Group], dict[str, Speci
     return groups, {k: _species(k, sp, groups) for k, sp in v["species"].items()}
 
 
+def _build_taxa(v: dict[str, Any], groups: dict[str, Group]) -> dict[str, Species]:
+    return {k: _species(TAXON_PREFIX + k, tx, groups) for k, tx in (v.get("taxa") or {}).items()}
+
+
 def _build_apparatus(v: dict[str, Any]) -> tuple[dict[str, Part], dict[str, CircuitType], dict[str, Sourced]]:
     parts = {k: Part(k, p["label"], p["kind"], p["volume_ml"]) for k, p in v["parts"].items()}
     circuits = {k: CircuitType(k, c["label"], c["rebreathing"], c["compressible_volume_ml_cmh2o"])
@@ -284,7 +308,7 @@ def _load_library(folder: Path) -> Library:
                    species_version=sp["data_version"],
                    cautions=dict(load_resource("cautions.toml", folder)["thresholds"]),
                    planning=dict(load_resource("planning.toml", folder)["defaults"]),
-                   **_situations(load_resource("situations.toml", folder)))
+                   taxa=_build_taxa(sp, groups), **_situations(load_resource("situations.toml", folder)))
 
 
 def _situations(v: dict[str, Any]) -> dict[str, Any]:

@@ -6,6 +6,7 @@ species default", which the plan then lists in its assumptions with the source.
 
 from __future__ import annotations
 
+import math
 from dataclasses import asdict, dataclass, field
 from typing import TYPE_CHECKING
 
@@ -53,6 +54,8 @@ class Patient:
     state: str = "fasted"     # ectotherms: "fasted", "fed" or "gravid" (STATES)
     # The patient's situations (keys of resources/situations.toml: surgery, disease, physiology), applied in order.
     situations: tuple[str, ...] = ()
+    # A species not listed, planned by its metabolic group alone (species.toml [taxa.<group>]); species is then "".
+    taxon: str = ""
 
 
 @dataclass(frozen=True)
@@ -94,6 +97,7 @@ class Targets:
     barometric_mmhg: float | None = None
     ti_s: float | None = None
     duration_min: float | None = None  # planned duration, for the oxygen supply check (machines.toml default)
+    inspiratory_pause_s: float | None = None  # no-flow hold at end-inspiration, inside Ti
 
 
 @dataclass(frozen=True)
@@ -186,6 +190,8 @@ class Ventilation:
     expected_etco2_mmhg: float
     target_reached: bool
     delivered_alveolar_ml_min: float
+    pause_s: float = 0.0                # inspiratory pause inside Ti (no flow)
+    te_without_pause_s: float = math.nan  # Te the same timing rule gives at this rate with no pause
 
 
 @dataclass(frozen=True)

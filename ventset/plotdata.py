@@ -283,7 +283,9 @@ def pressure_boundary_vt(plan: Plan, rates_per_min: np.ndarray) -> np.ndarray:
     s = subject_of(plan)
     rates = np.asarray(rates_per_min, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        return np.asarray(s.vt_at_pressure(s.pressure_limit_cmh2o, s.timing.ti_s(rates)), dtype=float)
+        ti = np.asarray(s.timing.ti_s(rates), dtype=float)
+        vt = np.asarray(s.vt_at_pressure(s.pressure_limit_cmh2o, ti), dtype=float)
+    return np.where(ti > s.timing.pause_s, vt, np.nan)  # no boundary where the pause leaves no time for flow
 
 
 def trapping_rate_per_min(plan: Plan, library: Library | None = None, rate_hi: float = 1000.0) -> float:
@@ -428,7 +430,7 @@ def field_defaults(plan: Plan, library: Library | None = None) -> dict[str, floa
     """The value each input field took in this plan when left empty (internal units, FIELDS keys)."""
     from ventset.library import load_library
 
-    sp = (library or load_library()).species[plan.resolved.species]
+    sp = (library or load_library()).entry(plan.resolved.species)
     r, m, v, p, o = plan.resolved, plan.metabolism, plan.ventilation, plan.pressures, plan.oxygen
     out = {
         "lean-mass": r.lean_mass_kg, "body-temperature": r.body_temp_c, "metabolic-rate": m.allometric_rate_w,
@@ -436,6 +438,7 @@ def field_defaults(plan: Plan, library: Library | None = None) -> dict[str, floa
         "resistance": p.resistance_cmh2o_l_s, "compressible-volume": p.compressible_ml_cmh2o, "sampling-flow": 0.0,
         "target-paco2": v.target_paco2_mmhg, "target-etco2": v.target_paco2_mmhg - r.gradient_mmhg,
         "gradient": r.gradient_mmhg, "peep": p.peep_cmh2o, "ie": r.ie_expiratory_part, "ti": v.ti_s,
+        "inspiratory-pause": v.pause_s,
         "pressure-limit": p.pressure_limit_cmh2o, "fio2": o.fio2, "altitude": plan.request.targets.altitude_m,
         "barometric-pressure": o.barometric_mmhg, "vt-per-kg": sp.tidal_volume_ml_kg.start,
         "rate": v.rate_per_min,

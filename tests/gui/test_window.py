@@ -386,3 +386,26 @@ def test_pressure_mode_shows_the_inspiratory_pressure(qtbot, make_window):
                                                                                  pr.time_constant_s))
     assert vt == pytest.approx(p.ventilation.tidal_volume_ml, rel=1e-9)
     assert "pressure-controlled" in w.status.patient.text()
+
+
+@pytest.mark.parametrize(("typed", "key"), [
+    ("elephant", "asian_elephant"), ("orangutan", "orangutan"), ("sea lion", "sea_lion"), ("dolphin", "dolphin"),
+    ("emu", "emu"), ("penguin", "penguin"), ("flamingo", "flamingo"), ("python", "python"),
+    ("monitor", "monitor_lizard"), ("sea turtle", "sea_turtle"), ("hamster", "hamster"), ("koala", "koala"),
+    ("bat", "bat"), ("chicken", "chicken"), ("calf", "cattle"), ("piglet", "pig"), ("puppy", "dog"),
+    ("kitten", "cat"), ("echidna", "echidna"),
+])
+def test_species_chooser_finds_every_alias(window, typed, key):
+    assert window.form.species.key_for(typed) == key
+
+
+def test_species_chooser_plans_a_species_not_listed_by_group(qtbot, window):
+    picker = window.form.species
+    i = picker.findData("taxon:marsupial")
+    assert i >= 0 and "Not listed" in picker.itemText(i)
+    picker.setCurrentIndex(i)
+    picker.activated.emit(i)
+    type_into(qtbot, window, "mass", "3")
+    p = window.controller.plan
+    assert p.resolved.species == "taxon:marsupial" and p.request.patient.taxon == "marsupial"
+    assert "TAXON_ONLY" in {c.code for c in p.cautions}

@@ -46,8 +46,8 @@ LAYOUT: dict[str, tuple[list[str], list[str]]] = {
     "patient": (["mass", "lean-mass", "body-temperature", "metabolic-rate"],
                 ["rq", "alveolar-dead-space", "compliance", "resistance"]),
     "circuit": (["tube-id", "tube-length", "compressible-volume"], ["sampling-flow", "oxygen-supply", "duration"]),
-    "targets": (["target-paco2", "target-etco2", "gradient", "peep", "ie", "ti", "pressure-limit", "fio2",
-                 "altitude", "barometric-pressure"], []),
+    "targets": (["target-paco2", "target-etco2", "gradient", "peep", "ie", "ti", "inspiratory-pause",
+                 "pressure-limit", "fio2", "altitude", "barometric-pressure"], []),
     "strategy": (["vt-per-kg", "rate"], []),
 }
 GROUP_TITLES = {"patient": "Patient", "circuit": "Breathing system", "targets": "Targets",
@@ -62,6 +62,7 @@ FIELD_ASSUMPTION = {
     "compliance": "Respiratory-system compliance per kg", "resistance": "Airway resistance",
     "compressible-volume": "Circuit compressible volume", "target-paco2": "Target PaCO2",
     "gradient": "PaCO2 − EtCO2 gradient", "peep": "PEEP", "ie": "I:E", "ti": "Inspiratory time",
+    "inspiratory-pause": "Inspiratory pause",
     "pressure-limit": "Pressure limit", "fio2": "FiO2", "barometric-pressure": "Barometric pressure",
     "vt-per-kg": "Starting tidal volume", "rate": "Rate of least work",
 }
@@ -204,11 +205,13 @@ class SpeciesPicker(QComboBox):
         compact(self, 12)
         self.lookup: dict[str, str] = {}
         entries = []
-        for sp in sorted(library.species.values(), key=lambda s: s.label):
-            self.addItem(sp.label, sp.key)
-            self.lookup[sp.label.lower()] = sp.key
-            entries.append(sp.label)
-            for alias in sp.aliases:
+        listed = sorted(library.species.values(), key=lambda s: s.label)
+        for sp in (*listed, *library.taxa.values()):  # then "not listed: by group" (key taxon:<group>)
+            label = sp.label if sp.key in library.species else f"Not listed — by group: {sp.group.label}"
+            self.addItem(label, sp.key)
+            self.lookup[label.lower()] = sp.key
+            entries.append(label)
+            for alias in (*sp.aliases, *sp.young_aliases):
                 text = f"{alias} — {sp.label}"
                 self.lookup[text.lower()] = sp.key
                 self.lookup.setdefault(alias.lower(), sp.key)
@@ -542,7 +545,8 @@ class InputForm(QWidget):
         self.species = SpeciesPicker(self.library, box)
         self._label_row(box, grid, "Species", self.species,
                         "Type any part of a name or alias (e.g. 'budgie', 'pony', 'bearded dragon') and pick "
-                        "from the list. Every default below comes from this entry of the species library.")
+                        "from the list. Every default below comes from this entry of the species library. For a "
+                        "species not listed, pick 'Not listed — by group' to plan from its metabolic group alone.")
         self.species.picked.connect(lambda key: self._push({"species": key}, "Change species"))
         self.species_error = plain(QLabel(box))
         self.species_error.setWordWrap(True)

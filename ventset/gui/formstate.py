@@ -6,7 +6,8 @@ The state is a flat dict so that one undo command can restore any part of it:
   ``exact:<field>`` an exact value behind a rounded text (after a unit switch or a loaded case), so
   switching kg → lb → kg or loading a case changes no underlying number;
 * ``choice:target`` / ``choice:timing`` which member of an either-or pair is used;
-* ``species``, ``custom_species``, ``name``, ``mode``, ``circuit``, ``machine``, ``strategy``, ``parts``
+* ``species`` (a species key, or ``taxon:<group>`` for a species not listed, planned by its group),
+  ``custom_species``, ``name``, ``mode``, ``circuit``, ``machine``, ``strategy``, ``parts``
   (a tuple of (name, volume text, source)), ``situations`` (a tuple of situation keys).
 
 Fields come from ventset.fields.FIELDS; nothing about a field is declared here a second time.
@@ -19,7 +20,7 @@ import re
 
 from ventset.errors import InputError
 from ventset.fields import FIELDS, SITUATIONS_KEY, TEXT_INPUTS, get_path, parse_field, request_from_inputs
-from ventset.library import Library
+from ventset.library import TAXON_PREFIX, Library
 from ventset.model import ApparatusPart, Patient, Request
 from ventset.units import convert, fmt, parse_quantity
 
@@ -122,8 +123,9 @@ def state_from_request(request: Request, units: dict[str, str], library: Library
     """The form state that shows ``request`` in the user's units (exact values kept)."""
     state = blank_state(units)
     p, c, s = request.patient, request.circuit, request.strategy
-    sp = library.find_species(p.species)
-    state.update(species=sp.key if sp else p.species, name=p.name, mode=c.mode or "",
+    sp = library.find_species(p.species) if p.species.strip() else None
+    shown = TAXON_PREFIX + p.taxon if p.taxon.strip() else sp.key if sp else p.species
+    state.update(species=shown, name=p.name, mode=c.mode or "",
                  circuit=c.circuit_type or "", strategy=s.name, machine=c.machine or "",
                  custom_species=getattr(p, "custom_species", "") or "",
                  parts=tuple((x.name, edit_text(x.volume_ml), x.source, x.volume_ml) for x in c.parts),
@@ -177,7 +179,9 @@ def request_from_state(state: dict, library: Library) -> tuple[Request | None, l
     """Build the Request the form describes through the one request builder (ventset.fields), or return every
     input error found (field by field)."""
     errors: list[InputError] = []
-    values: dict[str, object] = {"species": state.get("species", ""), "name": state.get("name", ""),
+    species = state.get("species", "")
+    taxon = species.removeprefix(TAXON_PREFIX) if species.startswith(TAXON_PREFIX) else ""
+    values: dict[str, object] = {"species": "" if taxon else species, "taxon": taxon, "name": state.get("name", ""),
                                  "custom-species": state.get("custom_species", "").strip(),
                                  "mode": state.get("mode") or None, "circuit": state.get("circuit") or None,
                                  "machine": state.get("machine") or None,

@@ -61,11 +61,12 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
               points_per_breath: int = 200, pause_s: float = 0.0) -> dict:
     """Sample airway pressure (cmH2O), flow (L/min) and volume (mL) over ``breaths`` breaths.
 
-    Passive single-compartment lung (P = V/C + R·V̇ + PEEP; Bates 2009). Volume mode: constant flow VT/(Ti − pause),
-    then an inspiratory pause with no flow (pressure falls to the plateau). Pressure mode: square pressure that
-    delivers VT in Ti. Expiration is passive: V = V_end·e^(−t/τ), so a short Te shows as volume not returning
-    to zero (trapped gas). Breaths are simulated in sequence, so trapped volume carries over;
-    ``end_expiratory_ml`` is the volume left at the end of the last breath.
+    Passive single-compartment lung (P = V/C + R·V̇ + PEEP; Bates 2009). Volume mode: constant flow VT/(Ti − pause).
+    Pressure mode: a square pressure that delivers VT in Ti − pause. Then, in either mode, the inspiratory pause
+    (``pause_s``, part of Ti): no flow, volume held, so the airway pressure is the plateau V/C + PEEP. Expiration
+    is passive: V = V_end·e^(−t/τ), so a short Te shows as volume not returning to zero (trapped gas). Breaths
+    are simulated in sequence, so trapped volume carries over; ``end_expiratory_ml`` is the volume left at the
+    end of the last breath.
     """
     import numpy as np
 
@@ -73,7 +74,7 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
     tau = time_constant_s(resistance_cmh2o_l_s, c)
     cycle = 60.0 / rate_per_min
     te = cycle - ti_s
-    pause = pause_s if mode != "pressure" else 0.0
+    pause = pause_s
     t_flow = ti_s - pause
     n = points_per_breath
     n_i = max(2, int(round(n * t_flow / cycle)))
@@ -84,7 +85,7 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
     te_local = np.linspace(0.0, te, n_e, endpoint=False)
     t_all, p_all, q_all, v_all = [], [], [], []
     v0 = 0.0
-    dp = pressure_control_delta_cmh2o(vt_ml, ti_s, c, tau) if mode == "pressure" else 0.0
+    dp = pressure_control_delta_cmh2o(vt_ml, t_flow, c, tau) if mode == "pressure" else 0.0
     r_ml = resistance_cmh2o_l_s / 1000.0  # cmH2O per (mL/s)
     for k in range(breaths):
         t0 = k * cycle
@@ -93,7 +94,7 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
             v_i = v_target + (v0 - v_target) * np.exp(-ti_local / tau)
             q_i = (v_target - v_i) / tau  # mL/s
             p_i = np.full_like(ti_local, peep_cmh2o + dp)
-            v_end = float(v_target + (v0 - v_target) * math.exp(-ti_s / tau))
+            v_end = float(v_target + (v0 - v_target) * math.exp(-t_flow / tau))
         else:
             q_const = vt_ml / t_flow
             v_i = v0 + q_const * ti_local

@@ -60,8 +60,9 @@ def setting_rows(plan: Plan, units: Units = MMHG) -> list[Row]:
         circuit = f"; + {show(p.compressed_ml, 'volume')} circuit" if p.compressed_ml >= 0.05 else ""
         first = _row("set_vt", "Set tidal volume", v.set_tidal_volume_ml, "volume", units,
                      f"{show(v.tidal_volume_ml, 'volume')} = {per_kg} at the patient{circuit}")
+        over = "Ti" if v.pause_s <= 0 else f"the {show(v.ti_s - v.pause_s, 'seconds')} before the pause"
         fourth = _row("flow", "Inspiratory flow", v.inspiratory_flow_l_min, "flow_l", units,
-                      f"constant over Ti ({show(v.inspiratory_flow_l_min * 1000 / 60, 'plain')} mL/s)")
+                      f"constant over {over} ({show(v.inspiratory_flow_l_min * 1000 / 60, 'plain')} mL/s)")
     over = " — ABOVE THE LIMIT" if p.peak_cmh2o > p.pressure_limit_cmh2o + 1e-9 else ""
     what = "inspiratory" if r.mode == "pressure" else "peak"
     induction = (f"; induction {show(o.fresh_gas_induction_ml_min, 'flow_ml')}"
@@ -72,7 +73,8 @@ def setting_rows(plan: Plan, units: Units = MMHG) -> list[Row]:
         first,
         _row("rate", "Rate", v.rate_per_min, "rate", units, f"minute volume {show(v.minute_ml_min, 'flow_ml')}"),
         _row("ti", "Inspiratory time", v.ti_s, "seconds", units,
-             f"Te {show(v.te_s, 'seconds')} · I:E {ie_text(r.ie_expiratory_part)}"),
+             f"Te {show(v.te_s, 'seconds')} · I:E {ie_text(r.ie_expiratory_part)}"
+             + (f" · pause {show(v.pause_s, 'seconds')} inside Ti" if v.pause_s > 0 else "")),
         fourth,
         _row("peep", "PEEP", p.peep_cmh2o, "cmh2o", units,
              f"plateau {show(p.plateau_cmh2o, 'cmh2o')}, driving {show(p.driving_cmh2o, 'cmh2o')}"),
@@ -102,6 +104,17 @@ def _dead_space_rows(plan: Plan, units: Units) -> list[Row]:
     return rows
 
 
+def _pause_rows(plan: Plan, units: Units) -> list[Row]:
+    """The inspiratory pause and what it does to the breath (none without a pause)."""
+    v, tau = plan.ventilation, plan.pressures.time_constant_s
+    if v.pause_s <= 0:
+        return []
+    return [_row("pause", "Inspiratory pause (inside Ti)", v.pause_s, "seconds", units,
+                 f"no flow, plateau held; flow for {show(v.ti_s - v.pause_s, 'seconds')}"),
+            _row("te_without_pause", "Expiratory time without the pause", v.te_without_pause_s, "seconds", units,
+                 f"{fmt(v.te_without_pause_s / tau)} τ against {fmt(v.te_s / tau)} τ with it")]
+
+
 def derived_sections(plan: Plan, units: Units = MMHG) -> list[tuple[str, list[Row]]]:
     """The derived values, grouped: metabolism, ventilation, dead space, mechanics, gases."""
     m, v, p, o, r = plan.metabolism, plan.ventilation, plan.pressures, plan.oxygen, plan.resolved
@@ -123,7 +136,8 @@ def derived_sections(plan: Plan, units: Units = MMHG) -> list[tuple[str, list[Ro
             _row("minute_ventilation", "Minute ventilation", v.minute_ml_min, "flow_ml", units),
             _row("patient_vt", "Tidal volume at patient", v.tidal_volume_ml, "volume", units),
             _row("vt_per_kg", "Tidal volume per kg lean mass", v.tidal_volume_ml / r.lean_mass_kg, "ml_kg", units),
-            _row("te", "Expiratory time", v.te_s, "seconds", units)]),
+            _row("te", "Expiratory time", v.te_s, "seconds", units),
+            *_pause_rows(plan, units)]),
         ("Dead space", _dead_space_rows(plan, units)),
         ("Mechanics (predicted)", [
             _row("plateau", "Plateau pressure", p.plateau_cmh2o, "cmh2o", units),

@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 from ventset.elementwise import is_scalar, larger, smaller
-from ventset.evaluate import Evaluation, Subject, evaluate
+from ventset.errors import InputError
+from ventset.evaluate import MAX_TI_FRACTION, Evaluation, Subject, evaluate
 from ventset.library import Library
 from ventset.model import (
     Assumption,
@@ -30,20 +31,32 @@ from ventset.units import fmt
 # A miss of the target PaCO2 smaller than this (mmHg) counts as reached: it is below what a capnograph or
 # blood-gas analyser resolves (common practice: both display whole mmHg, ±1 mmHg measurement error).
 TARGET_TOLERANCE_MMHG = 1.0
+# A pause caps the rate just below the rate at which Ti would reach MAX_TI_FRACTION of the cycle (derived: the
+# margin keeps the chosen rate off the boundary that check_timing refuses).
+PAUSE_RATE_MARGIN = 0.99
 
 
 def _box(basis: Basis, s: Strategy) -> tuple[float, float, float, float, tuple[Assumption, ...]]:
     """The usual tidal-volume (mL) and rate ranges, widened to include what the clinician entered."""
     sp, lean = basis.inputs.species, basis.inputs.lean_mass_kg
     vt_span, rate_span = sp.tidal_volume_ml_kg, sp.rate_span_for(lean)
-    notes = (note("vt_range", "Tidal volume range", f"{fmt(vt_span.min)}–{fmt(vt_span.max)}", "mL/kg", vt_span.source),
-             note("rate_range", "Rate range", f"{fmt(rate_span.min)}–{fmt(rate_span.max)}" if is_scalar(rate_span.min)
-                  else "scaled with each mass", "/min", rate_span.source))
+    notes: tuple[Assumption, ...] = (
+        note("vt_range", "Tidal volume range", f"{fmt(vt_span.min)}–{fmt(vt_span.max)}", "mL/kg", vt_span.source),
+        note("rate_range", "Rate range", f"{fmt(rate_span.min)}–{fmt(rate_span.max)}" if is_scalar(rate_span.min)
+             else "scaled with each mass", "/min", rate_span.source))
     vt_lo, vt_hi, rate_lo, rate_hi = vt_span.min, vt_span.max, rate_span.min, rate_span.max
     if s.vt_ml_kg is not None:
         vt_lo, vt_hi = smaller(vt_lo, s.vt_ml_kg), larger(vt_hi, s.vt_ml_kg)
     if s.rate_per_min is not None:
         rate_lo, rate_hi = smaller(rate_lo, s.rate_per_min), larger(rate_hi, s.rate_per_min)
+    elif basis.timing.pause_s > 0:
+        if not is_scalar(lean):
+            raise InputError("inspiratory-pause", basis.timing.pause_s, "a chart by body mass is planned without an "
+                                                                        "inspiratory pause; plan each patient")
+        if (cap := basis.timing.highest_rate_per_min() * PAUSE_RATE_MARGIN) < rate_hi:
+            rate_lo, rate_hi = min(rate_lo, cap), cap
+            notes += (note("pause_rate_max", "Highest rate the inspiratory pause leaves time to breathe out at", cap,
+                           "/min", f"derived: Ti (with the pause) under {fmt(MAX_TI_FRACTION * 100)} % of the cycle"),)
     return vt_lo * lean, vt_hi * lean, rate_lo, rate_hi, notes
 
 
@@ -106,6 +119,8 @@ def choose_stage(basis: Basis, subject: Subject) -> tuple[Choice, Limits, tuple[
     else:
         choice = choose_settings(c.va_ml_min, subject.vd_fixed_ml, subject.alveolar_fraction, c.vt_lo_ml, c.vt_hi_ml,
                                  c.rate_lo, c.rate_hi, c.vt_pressure_max_ml, c.preferred_vt_ml, c.preferred_rate)
+    if any(a.key == "pause_rate_max" for a in c.assumptions):  # the highest rate is the pause's, not the species'
+        choice = replace(choice, binding=tuple("pause_rate_max" if b == "rate_max" else b for b in choice.binding))
     limits = Limits(c.vt_lo_ml, c.vt_hi_ml, c.rate_lo, c.rate_hi, c.vt_pressure_max_ml, choice.binding,
                     choice.preferred_vt_ml, choice.preferred_rate_per_min)
     return choice, limits, c.assumptions
@@ -132,7 +147,8 @@ def finish(basis: Basis, subject: Subject, choice: Choice, limits: Limits, libra
     else:
         ok = choice.reached or reached(target, ev.paco2_mmhg)
     notes = (*basis.assumptions, *extra,
-             *timing_assumptions(subject.timing, choice.rate_per_min, basis.typical_ti_source, inp.species),
+             *timing_assumptions(subject.timing, choice.rate_per_min, basis.typical_ti_source, inp.species,
+                                 basis.request.targets),
              *basis.system.assumptions, *atm.assumptions, *fresh.assumptions)
     sp = inp.species
     plan = Plan(
@@ -158,4 +174,4 @@ def finish(basis: Basis, subject: Subject, choice: Choice, limits: Limits, libra
 def _ventilation(s: Subject, ev: Evaluation, target_mmhg: float, ok: bool) -> Ventilation:
     return Ventilation(s.alveolar_ventilation_ml_min(target_mmhg), ev.minute_ml_min, ev.vt_ml, ev.set_vt_ml,
                        ev.rate_per_min, ev.ti_s, ev.te_s, ev.inspiratory_flow_l_min, target_mmhg, ev.paco2_mmhg,
-                       ev.etco2_mmhg, ok, ev.alveolar_ml_min)
+                       ev.etco2_mmhg, ok, ev.alveolar_ml_min, ev.pause_s, s.timing.te_without_pause_s(ev.rate_per_min))

@@ -34,6 +34,20 @@ def find_species(library: Library, key: str) -> Species:
     return sp
 
 
+def find_entry(library: Library, species: str, taxon: str) -> Species:
+    """The entry a patient is planned with: its listed species, or for a species not listed (``taxon``) the
+    generic entry of its metabolic group; InputError naming the field."""
+    if not taxon.strip():
+        return find_species(library, species)
+    if species.strip():
+        raise InputError("taxon", taxon, "give a listed species or a metabolic group for one not listed, not both")
+    tx = library.find_taxon(taxon)
+    if tx is None:
+        raise InputError("taxon", taxon, f"is not a metabolic group with values for a species not listed; one of "
+                                         f"{', '.join(library.taxa)}")
+    return tx
+
+
 def check_mass(request: Request, sp: Species) -> None:
     """The patient's mass must be inside the species' mass range; InputError naming 'mass'."""
     try:
@@ -46,12 +60,17 @@ def resolve_inputs(request: Request, library: Library) -> Inputs:
     """Check the request against its hard limits and fill in species, lean mass, mode and temperature."""
     validate_request(request)
     p, c, s = request.patient, request.circuit, request.strategy
-    sp = find_species(library, p.species)
+    sp = find_entry(library, p.species, p.taxon)
     check_mass(request, sp)
     notes: list[Assumption] = []
     label = sp.label
     custom = p.custom_species.strip()
-    if custom:
+    if p.taxon.strip():
+        label = f"{custom} (not listed: by {sp.group.label.lower()} allometry)" if custom else sp.label
+        notes.append(note("taxon_only", "Planned by metabolic group only", sp.group.label, "",
+                          "no species entry and no base species: the generic values of the group (species.toml "
+                          f"[taxa.{sp.group.key}]), each with its source below"))
+    elif custom:
         label = f"{custom} (values from {sp.label})"
         notes.append(note("species_values", "Species values", sp.label, "",
                           f"base species for '{custom}', which is not in the library: its values are used for "

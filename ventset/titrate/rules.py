@@ -139,7 +139,7 @@ def gradient(x: AdjustContext) -> list[Caution]:
         out.append(caution("caution", "GRADIENT_IMPLAUSIBLE",
                            "Measured PaCO2 − EtCO2 gradient {gradient_mmhg} is outside the range the gradient input "
                            "accepts: check the capnograph and the sample timing.", gradient_mmhg=g))
-    sp = x.library.species[x.base.resolved.species]
+    sp = x.library.entry(x.base.resolved.species)
     usual = sp.gradient_mmhg.value
     if g - usual >= x.th("gradient_widening_mmhg"):
         out.append(caution("caution", "GRADIENT_WIDE",
