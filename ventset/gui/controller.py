@@ -50,6 +50,14 @@ class PlanController(QObject):
             self.request_changed.emit(request)
         self._timer.start()
 
+    def clear(self) -> None:
+        """Forget the patient (a new case): no request and no plan until the form describes a new one."""
+        self._timer.stop()
+        self.request = None
+        self.plan = None
+        self.errors = []
+        self._pending_errors = None
+
     def set_invalid(self, errors: list[InputError]) -> None:
         """The form has input that does not parse: keep the last plan, flag it stale."""
         self._pending_errors = list(errors)

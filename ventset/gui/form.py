@@ -541,11 +541,17 @@ class InputForm(QWidget):
         self._label_row(box, grid, "Species", self.species,
                         "Type any part of a name or alias (e.g. 'budgie', 'pony', 'bearded dragon') and pick "
                         "from the list. Every default below comes from this entry of the species library.")
-        self.species.picked.connect(lambda key: self._push({"species": key}, "Change species"))
+        self.species.picked.connect(self.change_species)
         self.species_error = plain(QLabel(box))
         self.species_error.setWordWrap(True)
         self.species_error.setVisible(False)
         grid.addWidget(self.species_error, self._r, 0, 1, 3)
+        self._r += 1
+        self.species_notice = plain(QLabel(box))
+        self.species_notice.setObjectName("species-notice")
+        self.species_notice.setWordWrap(True)
+        self.species_notice.setVisible(False)
+        grid.addWidget(self.species_notice, self._r, 0, 1, 3)
         self._r += 1
         self.custom_edit = FieldEdit(box)
         self.custom_edit.setObjectName("custom-species")
@@ -626,6 +632,31 @@ class InputForm(QWidget):
         if not changes:
             return
         self.undo.push(StateCommand(self, changes, text, merge_key))
+
+    def change_species(self, key: str) -> None:
+        """Make ``key`` the species: one undo step that also starts the previous patient's values afresh."""
+        sp = self.library.species.get(key)
+        changes = fs.species_change(self.state, key, sp.label if sp else key)
+        self._push(changes, f"Change species to {sp.label if sp else key}")
+        self._seal()
+
+    def new_patient(self) -> None:
+        """An empty form for a new patient: the species and the units stay, everything else is cleared. Not an
+        undo step (a new case starts a new history) and no plan until the body mass is entered."""
+        fresh = fs.blank_state(self.units())
+        fresh["species"] = self.state.get("species", "")
+        self._loading = True
+        try:
+            self.state.clear()
+            self.state.update(fresh)
+            self._sync_all()
+        finally:
+            self._loading = False
+        for key, row in self.rows.items():
+            row.edit.setPlaceholderText(NO_DEFAULT.get(key, ""))
+        self._seal()
+        self.controller.clear()
+        self._submit()
 
     def _typed(self, key: str, text: str) -> None:
         self._push({fs.TEXT + key: text, fs.EXACT + key: None}, f"Edit {FIELDS[key].label}",
@@ -732,6 +763,9 @@ class InputForm(QWidget):
             self.strategy_combo.setCurrentIndex(max(0, self.strategy_combo.findData(s[k])))
         elif k == "parts":
             self.parts_editor.show_parts(s[k])
+        elif k == "notice":
+            self.species_notice.setText(s[k])
+            self.species_notice.setVisible(bool(s[k]))
 
     # ---------------------------------------------------------------- from the controller
     def load_request(self, request: Request) -> None:
@@ -830,6 +864,8 @@ class InputForm(QWidget):
     def set_theme(self, theme: Theme) -> None:
         self.theme = theme
         self.setStyleSheet(theme.form_style)
+        self.species_notice.setStyleSheet(f"background: {theme.info_bg}; color: {theme.text}; "
+                                          f"border: 1px solid {theme.info}; border-radius: 3px; padding: 2px;")
         marks, self._errors = self._errors, {}
         self._set_errors(marks)
 

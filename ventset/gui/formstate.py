@@ -108,7 +108,7 @@ def blank_state(units: dict[str, str] | None = None) -> dict:
     """Every key present, every field empty, units from ``units`` (else the first choice)."""
     units = units or {}
     state: dict = {"species": "", "custom_species": "", "name": "", "mode": "", "circuit": "",
-                   "strategy": "volume_first", "parts": ()}
+                   "strategy": "volume_first", "parts": (), "notice": ""}
     for key, spec in FIELDS.items():
         state[TEXT + key] = ""
         state[UNIT + key] = units.get(key, spec.units[0])
@@ -116,6 +116,39 @@ def blank_state(units: dict[str, str] | None = None) -> dict:
     for name, members in PAIRS.items():
         state[CHOICE + name] = members[0]
     return state
+
+
+# What belongs to one patient rather than to the clinician's aims: a new species starts these afresh from its own
+# defaults (the name, body mass, targets, mode and method stay). Values by mass or by species: the tube, the
+# breathing system and its parts, temperature, lean mass, the patient's own measurements, Ti, VT per kg and rate.
+PATIENT_FIELDS = ("lean-mass", "body-temperature", "metabolic-rate", "rq", "alveolar-dead-space", "compliance",
+                  "resistance", "tube-id", "tube-length", "compressible-volume", "gradient", "ti", "vt-per-kg",
+                  "rate")
+
+
+def species_change(state: dict, species: str, species_label: str) -> dict:
+    """The state changes that make ``species`` the patient's species and reset what belonged to the previous
+    patient (PATIENT_FIELDS, the apparatus parts and the breathing system), with a one-line ``notice`` saying
+    what was reset. The species alone when it was not set before or is unchanged."""
+    changes: dict = {"species": species}
+    if not state.get("species") or state.get("species") == species:
+        return changes
+    reset = []
+    for key in PATIENT_FIELDS:
+        if key in FIELDS and state.get(TEXT + key, "").strip():
+            changes[TEXT + key] = ""
+            changes[EXACT + key] = None
+            reset.append(FIELDS[key].label)
+    if state.get("parts"):
+        n = len(state["parts"])
+        changes["parts"] = ()
+        reset.append(f"apparatus ({n} part{'s' if n != 1 else ''})")
+    if state.get("circuit"):
+        changes["circuit"] = ""
+        reset.append("breathing system")
+    changes["notice"] = (f"New species {species_label}: reset to its defaults: {', '.join(reset)}." if reset
+                         else "")
+    return changes
 
 
 def state_from_request(request: Request, units: dict[str, str], library: Library) -> dict:

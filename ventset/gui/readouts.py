@@ -151,6 +151,12 @@ class StatusStrip(QFrame):
         self.problem.setVisible(not current)
         self.fix.setVisible(not current and bool(key))
 
+    def clear(self) -> None:
+        """No plan (a new case): nothing of an earlier patient is shown."""
+        self.patient.setText("New patient: no plan yet")
+        self.expect.setText("")
+        self.counts.setText("")
+
     def show_plan(self, plan: Plan, gas_unit: str, mass_unit: str) -> None:
         r, v, p = plan.resolved, plan.ventilation, plan.pressures
         name = plan.request.patient.name
@@ -285,6 +291,11 @@ class SettingsPanel(QFrame):
                 w.setColour(value_colour)
         self.stale_tag.setText("⚠ STALE: last valid plan, not the current input" if stale else "")
 
+    def clear(self) -> None:
+        """No plan (a new case): every tile shows a dash."""
+        for key, name, unit in self.TILES:
+            self.tiles[key].display(name, "—", unit, "")
+
     def show_plan(self, plan: Plan, gas_unit: str) -> None:
         v, p, o, r = plan.ventilation, plan.pressures, plan.oxygen, plan.resolved
         lean = r.lean_mass_kg
@@ -408,6 +419,12 @@ class CautionsPanel(QFrame):
             row.setVisible(False)
         n = {s: sum(1 for c in cautions if c.severity == s) for s in ("danger", "caution", "info")}
         self.summary.setText(f"{n['danger']} danger · {n['caution']} caution · {n['info']} info")
+
+    def clear(self) -> None:
+        """No plan (a new case): no cautions from an earlier patient."""
+        for row in self.rows:
+            row.setVisible(False)
+        self.summary.setText("")
 
     def set_stale(self, stale: bool) -> None:
         self.stale.setText("⚠ These cautions belong to the last valid plan." if stale else "")
@@ -547,6 +564,15 @@ class DerivedPanel(QScrollArea):
         bag = getattr(o, "reservoir_bag_l", 0.0)
         s("reservoir_bag", fmt(bag) if bag else "—", "L" if bag else "")
 
+    def clear(self) -> None:
+        """No plan (a new case): every value a dash."""
+        for _n, v, u in self.values.values():
+            v.setText("—")
+            u.setText("")
+        for row in self.part_rows:
+            for w in row:
+                w.setVisible(False)
+
     def texts(self) -> list[str]:
         return [w.text() for w in self.body.findChildren(QLabel)] + [w.text() for w in self.body.findChildren(Text)]
 
@@ -572,6 +598,11 @@ class AssumptionsPanel(QTableWidget):
         self.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
         self._last: tuple = ()
 
+    def clear(self) -> None:
+        """No plan (a new case): no assumptions."""
+        self._last = ()
+        self.setRowCount(0)
+
     def show_plan(self, plan: Plan) -> None:
         rows = tuple((a.name, f"{fmt(a.value) if isinstance(a.value, float) else a.value} {a.unit}".strip(),
                       a.source) for a in plan.assumptions)
@@ -590,10 +621,12 @@ class AssumptionsPanel(QTableWidget):
                     item.setToolTip(plain_tip(text))
 
 
-def first_error_text(errors: list[InputError]) -> str:
+def first_error_text(errors: list[InputError], shown: bool = True) -> str:
+    """'Fix: field — reason', and whether the numbers on screen are from the last valid input (``shown``)."""
     if not errors:
         return ""
     e = errors[0]
     more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
-    return one_line(f"Fix: {e.field} — {e.reason}{more}. The numbers shown are from the last valid input.")
+    tail = " The numbers shown are from the last valid input." if shown else " Nothing is planned until then."
+    return one_line(f"Fix: {e.field} — {e.reason}{more}.{tail}")
 

@@ -195,7 +195,7 @@ class MainWindow(QMainWindow):
         bar = self.menuBar()
         case = self.menu("&Case")
         self.act_demo = QAction("Load the demo patient", self)
-        self.act_demo.triggered.connect(lambda: self.controller.set_request(demo_request(self.library)))
+        self.act_demo.triggered.connect(self.load_demo)
         case.addAction(self.act_demo)
         self.act_copy = QAction("Copy plan as text", self)
         self.act_copy.setShortcut(QKeySequence("Ctrl+Shift+C"))
@@ -320,16 +320,24 @@ class MainWindow(QMainWindow):
         self.sens_plot.show_plan(plan, gas)
         for card in self.plot_cards:
             card.set_stale(False)
+        if not any(card.isVisibleTo(self.plots_page) for card in self.plot_cards):  # after a new case
+            self._enlarge(next((c for c in self.plot_cards if c.zoom.isChecked()), None))
         name = plan.request.patient.name
         self.setWindowTitle(f"ventset — {name or plan.resolved.species_label}")
 
     def _show_invalid(self, errors: list[InputError]) -> None:
         key = fs.error_key(errors[0]) if errors else ""
-        self.status.set_current(False, first_error_text(errors), key or "")
+        blank = self.controller.plan is None  # a new case: nothing of an earlier patient stays on screen
+        self.status.set_current(False, first_error_text(errors, not blank), key or "")
         self.settings_panel.set_stale(True)
-        self.cautions.set_stale(True)
+        self.cautions.set_stale(not blank)
         for card in self.plot_cards:
             card.set_stale(True)
+        if blank:
+            for panel in (self.status, self.settings_panel, self.cautions, self.derived, self.assumptions):
+                panel.clear()
+            for card in self.plot_cards:
+                card.setVisible(False)
 
     def _enlarge(self, card) -> None:
         """Show one plot alone (card), or all four (None)."""
@@ -356,6 +364,14 @@ class MainWindow(QMainWindow):
             if key not in fs.GAS_FIELDS:
                 self.settings.setValue(f"units/{key}", unit)
         self.settings.setValue("units/gas", self.form.gas_unit())
+
+    def load_demo(self) -> bool:
+        """Show the demo patient as a new, unsaved case (asking first when work would be lost)."""
+        manager = getattr(self, "case_manager", None)
+        if manager is not None:
+            return manager.new_case(demo_request(self.library))
+        self.controller.set_request(demo_request(self.library))
+        return True
 
     def _find_species(self) -> None:
         self.form.species.setFocus()
