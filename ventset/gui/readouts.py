@@ -63,11 +63,11 @@ def _text(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = Fal
 
 
 def _heading_row(outer: QVBoxLayout, title: QWidget, right: QWidget) -> None:
-    """Add a panel's heading row to ``outer``: the title on the left, ``right`` at the right edge."""
+    """Add a panel's heading row to ``outer``: the title on the left, ``right`` (wrapping, right-aligned) taking
+    the rest, so a narrow panel wraps the words instead of cutting them."""
     head = QHBoxLayout()
-    head.addWidget(title)
-    head.addStretch(1)
-    head.addWidget(right)
+    head.addWidget(title, 1, Qt.AlignmentFlag.AlignTop)
+    head.addWidget(right, 1)
     outer.addLayout(head)
 
 
@@ -106,8 +106,7 @@ class StatusStrip(QFrame):
         m = self.fontMetrics().height() // 3
         lay.setContentsMargins(m * 2, m, m * 2, m)
         self.badge = _label(self, "", 1.0, bold=True, name="plan-state")
-        self.patient = _text(self, "", 1.15, bold=True, name="patient-summary")
-        self.patient.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.patient = _text(self, "", 1.15, bold=True, wrap=True, name="patient-summary")
         self.expect = _text(self, "", 1.0, wrap=True, name="expect-line", markup=True)  # numbers only
         self.counts = _text(self, "", 1.0, bold=True, name="caution-counts", align=Qt.AlignmentFlag.AlignRight)
         self.problem = _text(self, "", 1.0, bold=True, wrap=True, name="stale-reason")
@@ -214,10 +213,9 @@ class Tile(QFrame):
         self.setFrameShape(QFrame.Shape.StyledPanel)
         lay = QVBoxLayout(self)
         m = self.fontMetrics().height() // 3
-        lay.setContentsMargins(m * 2, m, m * 2, m)
+        lay.setContentsMargins(m, m, m, m)
         lay.setSpacing(0)
-        self.name = _text(self, name, 0.95, bold=True, name=f"tile-{key}-name")
-        self.name.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.name = _text(self, name, 0.95, bold=True, wrap=True, name=f"tile-{key}-name")
         row = QHBoxLayout()
         row.setSpacing(m)
         self.value = Reading(self, name=f"tile-{key}-value")
@@ -231,6 +229,14 @@ class Tile(QFrame):
         lay.addStretch(1)
         self.setToolTip(tooltip(key))
         self.setAccessibleName(name)
+
+    def needed_width(self) -> int:
+        """The narrowest this tile can be with nothing cut: the reading at its smallest comfortable size, and
+        the longest word (or number) of its name and detail."""
+        m = self.layout().contentsMargins()
+        inner = max(self.value.width_at(Reading.MIN_SCALE), self.name.longest_unbroken(),
+                    self.detail.longest_unbroken())
+        return inner + m.left() + m.right() + 2 * self.frameWidth()
 
     def display(self, name: str, value: str, unit: str, detail: str) -> None:
         if self.name.text() != name:
@@ -253,23 +259,49 @@ class SettingsPanel(QFrame):
         self.setObjectName("settings-panel")
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
-        self.title = _label(self, "Recommended starting settings", 1.2, bold=True, name="settings-title")
-        self.stale_tag = _label(self, "", 1.0, bold=True, name="settings-stale")
+        self.title = _label(self, "Recommended starting settings", 1.2, bold=True, wrap=True, name="settings-title")
+        self.stale_tag = _label(self, "", 1.0, bold=True, wrap=True, name="settings-stale")
+        self.stale_tag.setAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         _heading_row(outer, self.title, self.stale_tag)
         grid = QGridLayout()
         sp = self.fontMetrics().height() // 3
         grid.setSpacing(sp)
+        self.grid = grid
         self.tiles: dict[str, Tile] = {}
-        for i, (key, name, unit) in enumerate(self.TILES):
-            tile = Tile(key, name, unit, self, lines=3 if key == "fresh_gas" else 2)
-            self.tiles[key] = tile
-            grid.addWidget(tile, i // 4, i % 4)
-        for c in range(4):
-            grid.setColumnStretch(c, 1)
+        for key, name, unit in self.TILES:
+            self.tiles[key] = Tile(key, name, unit, self, lines=3 if key == "fresh_gas" else 2)
+        self.columns = 0
+        self._place(4)
         outer.addLayout(grid)
         self.theme = DAY
         self._stale: bool | None = None
         self.set_stale(False)
+
+    COLUMN_CHOICES = (4, 3, 2, 1)
+
+    def _place(self, columns: int) -> None:
+        """Lay the tiles out in ``columns`` columns (rows as needed)."""
+        if columns == self.columns:
+            return
+        for tile in self.tiles.values():
+            self.grid.removeWidget(tile)
+        for c in range(max(self.columns, columns)):
+            self.grid.setColumnStretch(c, 1 if c < columns else 0)
+        for i, tile in enumerate(self.tiles.values()):
+            self.grid.addWidget(tile, i // columns, i % columns)
+        self.columns = columns
+
+    def reflow(self) -> None:
+        """As many columns as keep every tile's number, name and detail whole at this width."""
+        width = self.width()
+        need = max(t.needed_width() for t in self.tiles.values())
+        sp = self.grid.horizontalSpacing()
+        fits = [c for c in self.COLUMN_CHOICES if (width - (c - 1) * sp) / c >= need]
+        self._place(fits[0] if fits else 1)
+
+    def resizeEvent(self, e) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(e)
+        self.reflow()
 
     def set_theme(self, theme: Theme) -> None:
         self.theme = theme
@@ -295,6 +327,7 @@ class SettingsPanel(QFrame):
         """No plan (a new case): every tile shows a dash."""
         for key, name, unit in self.TILES:
             self.tiles[key].display(name, "—", unit, "")
+        self.reflow()
 
     def show_plan(self, plan: Plan, gas_unit: str) -> None:
         v, p, o, r = plan.ventilation, plan.pressures, plan.oxygen, plan.resolved
@@ -328,6 +361,7 @@ class SettingsPanel(QFrame):
         bag_txt = f"; bag {fmt(bag)} L" if bag else ""
         t["fresh_gas"].display("Fresh gas flow", fmt(o.fresh_gas_ml_min / 1000), "L/min",
                                f"{o.circuit_label.split(' (')[0]}{induct}{bag_txt}")
+        self.reflow()
 
 
 class CautionRow(QFrame):
@@ -341,7 +375,7 @@ class CautionRow(QFrame):
         lay.setVerticalSpacing(0)
         self.icon = plain(QLabel(self))
         self.word = _label(self, "", 1.0, bold=True)
-        self.code = _text(self, "", 0.85)
+        self.code = _text(self, "", 0.8)  # small, and shown only where it fits whole (always in the tooltip)
         self.message = _text(self, "", 1.0, wrap=True)
         lay.addWidget(self.icon, 0, 0, 2, 1, Qt.AlignmentFlag.AlignTop)
         head = QHBoxLayout()
@@ -370,9 +404,20 @@ class CautionRow(QFrame):
             self.message.setColour(theme.text)
         if self.code.text() != code:
             self.code.setText(code)
+            self.setToolTip(plain_tip(f"{SEVERITY_WORD.get(severity, severity)} {code}"))
+            self._fit_code()
         if self.message.text() != message:
             self.message.setText(message)
         self.setAccessibleName(f"{SEVERITY_WORD.get(severity, severity)}: {message}")
+
+
+    def _fit_code(self) -> None:
+        room = self.message.width() - self.word.sizeHint().width() - self.layout().horizontalSpacing()
+        self.code.setVisible(self.code.longest_unbroken() + 2 <= room)
+
+    def resizeEvent(self, e) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(e)
+        self._fit_code()
 
 
 class CautionsPanel(QFrame):
@@ -384,7 +429,7 @@ class CautionsPanel(QFrame):
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
         self.title = _label(self, "Cautions", 1.2, bold=True, name="cautions-title")
-        self.summary = _text(self, "", 1.0, name="cautions-summary", align=Qt.AlignmentFlag.AlignRight)
+        self.summary = _text(self, "", 1.0, wrap=True, name="cautions-summary", align=Qt.AlignmentFlag.AlignRight)
         _heading_row(outer, self.title, self.summary)
         self.stale = _label(self, "", 0.95, bold=True, wrap=True, name="cautions-stale")
         self.stale.setVisible(False)
@@ -492,6 +537,7 @@ class DerivedPanel(QScrollArea):
         r = self._row if row is None else row
         n = _label(self.body, name)
         n.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        n.setWordWrap(True)  # after the policy, which would clear its height-for-width
         n.setMinimumWidth(self.fontMetrics().averageCharWidth() * 12)
         v = _text(self.body, "—", 1.0, bold=True, name=f"derived-{key}", align=Qt.AlignmentFlag.AlignRight)
         v.setMinimumWidth(self.fontMetrics().horizontalAdvance("00000.0"))

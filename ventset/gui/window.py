@@ -16,7 +16,6 @@ from PySide6.QtGui import QAction, QActionGroup, QGuiApplication, QKeySequence, 
 from PySide6.QtWidgets import (
     QApplication,
     QDockWidget,
-    QHBoxLayout,
     QMainWindow,
     QMenu,
     QScrollArea,
@@ -32,7 +31,8 @@ from ventset.gui import formstate as fs
 from ventset.gui import settings as prefs
 from ventset.gui.controller import PlanController
 from ventset.gui.form import InputForm
-from ventset.gui.plots import BreathPlot, SensitivityPlot, SettingsMapPlot, WaveformPlot
+from ventset.gui.geometry import DEFAULT_SIZE, FitColumn, clamp_to_screen, first_size  # noqa: F401 (DEFAULT_SIZE re-exported)
+from ventset.gui.plots import BreathPlot, PlotPage, SensitivityPlot, SettingsMapPlot, WaveformPlot
 from ventset.gui.readouts import (
     AssumptionsPanel,
     CautionsPanel,
@@ -46,8 +46,6 @@ from ventset.gui.theme import THEMES, Theme, apply_theme
 from ventset.library import Library, load_library
 from ventset.model import Plan, Request
 from ventset.report import plan_to_text
-
-DEFAULT_SIZE = (1400, 900)
 
 # Panels added by other modules: each defines install(window), called by ventset.gui.app.run() after the
 # window is built (a failing panel is reported on stderr and the planning window still opens).
@@ -133,13 +131,21 @@ class MainWindow(QMainWindow):
         form_scroll = QScrollArea(self.splitter)
         form_scroll.setObjectName("form-scroll")
         form_scroll.setWidgetResizable(True)
-        form_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        # The form scrolls sideways only when the window is too narrow for it (a small screen at 2×).
+        form_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
         form_scroll.setWidget(self.form)
-        form_scroll.setMinimumWidth(self.form.minimumSizeHint().width() + 24)
+        self.form_width = self.form.minimumSizeHint().width() + 24
+        form_scroll.setMinimumWidth(min(self.form_width, self.fontMetrics().averageCharWidth() * 34))
         self.form_scroll = form_scroll
 
-        middle = QWidget(self.splitter)
-        mid = QVBoxLayout(middle)
+        middle_scroll = QScrollArea(self.splitter)  # scrolls only when the window is too low for the tiles
+        middle_scroll.setObjectName("middle-scroll")
+        middle_scroll.setWidgetResizable(True)
+        middle_scroll.setFrameShape(QScrollArea.Shape.NoFrame)
+        middle_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        middle = FitColumn(middle_scroll)
+        middle_scroll.setWidget(middle)
+        mid = middle.layout()
         mid.setContentsMargins(0, 0, 0, 0)
         mid.setSpacing(m)
         self.settings_panel = SettingsPanel(middle)
@@ -147,23 +153,16 @@ class MainWindow(QMainWindow):
         self.tabs = QTabWidget(middle)
         self.tabs.setObjectName("detail-tabs")
         self.tabs.setDocumentMode(True)
-        plots = QWidget(self.tabs)
-        row = QHBoxLayout(plots)
-        row.setContentsMargins(0, m, 0, 0)
-        row.setSpacing(m)
-        left_col, right_col = QVBoxLayout(), QVBoxLayout()
-        left_col.setSpacing(m)
-        right_col.setSpacing(m)
+        plots = PlotPage(self.tabs, m)
+        self.plot_columns = plots.columns
         self.breath_plot = BreathPlot(plots)
         self.map_plot = SettingsMapPlot(plots)
         self.wave_plot = WaveformPlot(plots)
         self.sens_plot = SensitivityPlot(plots)
-        left_col.addWidget(self.breath_plot, 40)
-        left_col.addWidget(self.map_plot, 60)
-        right_col.addWidget(self.wave_plot, 58)
-        right_col.addWidget(self.sens_plot, 42)
-        row.addLayout(left_col, 1)
-        row.addLayout(right_col, 1)
+        plots.add(0, self.breath_plot, 40)
+        plots.add(0, self.map_plot, 60)
+        plots.add(1, self.wave_plot, 58)
+        plots.add(1, self.sens_plot, 42)
         self.plots_page = plots
         self.plot_cards = (self.breath_plot, self.map_plot, self.wave_plot, self.sens_plot)
         for card in self.plot_cards:
@@ -171,7 +170,6 @@ class MainWindow(QMainWindow):
         self.derived = DerivedPanel(self.tabs)
         self.assumptions = AssumptionsPanel(self.tabs)
         # With large system fonts or a small window the plots scroll rather than squash into illegibility.
-        plots.setMinimumHeight(self.fontMetrics().lineSpacing() * 34)
         plots_scroll = QScrollArea(self.tabs)
         plots_scroll.setObjectName("plots-scroll")
         plots_scroll.setWidgetResizable(True)
@@ -182,6 +180,8 @@ class MainWindow(QMainWindow):
         self.tabs.addTab(self.derived, "Derived values")
         self.tabs.addTab(self.assumptions, "Assumptions and sources")
         mid.addWidget(self.tabs, 1)
+        bar = self.style().pixelMetric(self.style().PixelMetric.PM_ScrollBarExtent)
+        middle_scroll.setMinimumWidth(middle.minimumSizeHint().width() + bar)  # never narrower than its content
 
         self.cautions = CautionsPanel(self.splitter)
         self.splitter.setStretchFactor(0, 0)
@@ -340,9 +340,9 @@ class MainWindow(QMainWindow):
                 card.setVisible(False)
 
     def _enlarge(self, card) -> None:
-        """Show one plot alone (card), or all four (None)."""
+        """Show one plot alone over the whole plot area (card), or all four (None)."""
+        self.plots_page.enlarge(card)
         for c in self.plot_cards:
-            c.setVisible(card is None or c is card)
             if c is not card and c.zoom.isChecked():
                 c.zoom.blockSignals(True)
                 c.zoom.setChecked(False)
@@ -429,16 +429,23 @@ class MainWindow(QMainWindow):
     def _restore(self) -> None:
         geo = self.settings.value("window/geometry")
         if isinstance(geo, QByteArray | bytes) and self.restoreGeometry(QByteArray(geo)):
-            pass
+            clamp_to_screen(self)  # remembered on another screen or at another scale
         else:
-            self.resize(*DEFAULT_SIZE)
+            self.resize(*first_size(self))
             w = self.width()
-            side = max(self.fontMetrics().averageCharWidth() * 44, int(w * 0.24))
-            self.splitter.setSizes([side, w - 2 * side, side])
+            form = min(self.form_width, int(w * 0.4))
+            side = max(self.fontMetrics().averageCharWidth() * 30, int(w * 0.22))
+            self.splitter.setSizes([form, w - form - side, side])
         for name, splitter in (("window/splitter", self.splitter),):
             state = self.settings.value(name)
             if isinstance(state, QByteArray | bytes):
                 splitter.restoreState(QByteArray(state))
+
+    def showEvent(self, event) -> None:  # noqa: N802 - Qt override
+        super().showEvent(event)
+        if not getattr(self, "_placed", False):  # the frame is known once shown: keep all of it on screen
+            self._placed = True
+            clamp_to_screen(self)
 
     def closeEvent(self, event) -> None:  # noqa: N802 - Qt override
         self.settings.setValue("window/geometry", self.saveGeometry())
