@@ -37,6 +37,7 @@ from ventset.gui.text import esc, plain, plain_tip
 from ventset.gui.theme import DAY, Theme, scaled_font
 from ventset.library import Library
 from ventset.model import STRATEGIES, STRATEGY_LABELS, Plan, Request
+from ventset.present.quantities import show
 from ventset.units import fmt
 
 # Where each field sits: (group, shown at once, under "More ..."). Fields added to FIELDS later
@@ -514,7 +515,7 @@ class InputForm(QWidget):
         grid.addWidget(row.error, self._r + 1, 0, 1, 3)
         self._r += 2
         row.edit.textEdited.connect(lambda text, k=key: self._typed(k, text))
-        row.edit.editingFinished.connect(self._seal)
+        row.edit.editingFinished.connect(lambda k=key: self._finished(k))
         if isinstance(row.unit, QComboBox):
             row.unit.activated.connect(lambda i, k=key: self._unit_picked(k, i))
 
@@ -662,13 +663,31 @@ class InputForm(QWidget):
         self._push({fs.TEXT + key: text, fs.EXACT + key: None}, f"Edit {FIELDS[key].label}",
                    (key, self._session))
 
+    def _finished(self, key: str) -> None:
+        """Enter or focus out: a unit typed with the number ('35 g') moves the unit chooser (and the related
+        fields) to it, in the same undo step as the typing; the next keystroke starts a new step."""
+        typed = fs.typed_unit(key, self.state.get(fs.TEXT + key, ""))
+        if typed is not None and typed[1] != self.state.get(fs.UNIT + key):
+            number, unit = typed
+            changes = self._unit_changes(key, unit)
+            changes.update({fs.TEXT + key: number, fs.EXACT + key: None})
+            self._push(changes, f"Edit {FIELDS[key].label}", (key, self._session))
+        self._seal()
+
+    def _unit_changes(self, key: str, unit: str) -> dict:
+        """State changes that show ``key`` and its related fields (formstate.related) in ``unit``."""
+        changes: dict = {}
+        for k in (key, *fs.related(key)):
+            if unit in FIELDS[k].units:
+                changes.update(fs.convert_field(self.state, k, unit))
+        return changes
+
     def _unit_picked(self, key: str, index: int) -> None:
         unit = self.rows[key].unit.itemData(index)
         if key in fs.GAS_FIELDS:
             self.set_gas_unit(unit)
             return
-        changes = fs.convert_field(self.state, key, unit)
-        self._push(changes, f"Show {FIELDS[key].label} in {fs.shown_unit(unit, key)}")
+        self._push(self._unit_changes(key, unit), f"Show {FIELDS[key].label} in {fs.shown_unit(unit, key)}")
         self._seal()
 
     def set_gas_unit(self, unit: str) -> None:
@@ -690,10 +709,10 @@ class InputForm(QWidget):
         self._push({fs.CHOICE + pair: key}, f"Use {FIELDS[key].label}")
 
     def set_text(self, key: str, text: str) -> None:
-        """Type ``text`` into field ``key`` as the user would (one undo step)."""
+        """Type ``text`` into field ``key`` and press Enter, as the user would (one undo step)."""
         self._seal()
         self._typed(key, text)
-        self._seal()
+        self._finished(key)
 
     # ---------------------------------------------------------------- state → widgets → request
     def _apply(self, values: dict) -> None:
@@ -855,8 +874,8 @@ class InputForm(QWidget):
             self.circuit_combo.setItemText(0, circ)
         d = plan.dead_space
         self.parts_editor.message.setText(
-            f"Apparatus {fmt(d.apparatus_ml)} mL + tube {fmt(d.tube_ml)} mL = "
-            f"{fmt(d.apparatus_ml + d.tube_ml)} mL of dead space before the airway."
+            f"Apparatus {show(d.apparatus_ml, 'volume')} + tube {show(d.tube_ml, 'volume')} = "
+            f"{show(d.apparatus_ml + d.tube_ml, 'volume')} of dead space before the airway."
             if "parts" not in self._errors else self.parts_editor.message.text())
         if "parts" not in self._errors:
             self.parts_editor.message.setStyleSheet("")

@@ -21,13 +21,19 @@ from ventset.errors import InputError
 from ventset.fields import FIELDS, TEXT_INPUTS, get_path, parse_field, request_from_inputs
 from ventset.library import Library
 from ventset.model import ApparatusPart, Patient, Request
-from ventset.units import convert, fmt, parse_quantity
+from ventset.units import check_range, convert, find_unit, fmt, parse_quantity
 
 TEXT, UNIT, EXACT, CHOICE = "text:", "unit:", "exact:", "choice:"
 
 # Either-or pairs: only the chosen member is sent to the planner (it rejects both at once).
 PAIRS: dict[str, tuple[str, str]] = {"target": ("target-paco2", "target-etco2"), "timing": ("ie", "ti")}
 GAS_FIELDS = tuple(k for k, s in FIELDS.items() if s.unit == "mmHg")
+
+# Fields shown in one unit together: choosing (or typing) a unit in one moves the others (gas pressures always
+# move together, see GAS_FIELDS; body and lean mass; PEEP and the pressure limit).
+RELATED: dict[str, tuple[str, ...]] = {"mass": ("lean-mass",), "lean-mass": ("mass",), "peep": ("pressure-limit",),
+                                       "pressure-limit": ("peep",)}
+_TYPED = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(\S.*?)\s*$")
 
 _SHOWN = {"degC": "°C", "degF": "°F", "1/min": "/min", "cmH2O*s/L": "cmH2O/(L/s)", "percent": "%"}
 _PLAIN_NUMBER = re.compile(r"^\s*[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?\s*$")
@@ -68,11 +74,40 @@ def edit_text(value: float) -> str:
     return fmt(value, 4)
 
 
+def related(key: str) -> tuple[str, ...]:
+    """The fields that show their values in the same unit as ``key`` (itself not included)."""
+    if key in GAS_FIELDS:
+        return tuple(k for k in GAS_FIELDS if k != key)
+    return RELATED.get(key, ())
+
+
+def typed_unit(key: str, text: str) -> tuple[str, str] | None:
+    """(number, unit) when ``text`` is a number followed by one of the units offered beside field ``key``
+    ('35 g' in body mass gives ('35', 'g')), else None."""
+    m = _TYPED.match(text or "")
+    if not m or len(FIELDS[key].units) < 2:
+        return None
+    unit = find_unit(m.group(2))
+    if unit is None or unit.name not in FIELDS[key].units:
+        return None
+    return m.group(1), unit.name
+
+
 def parse_text(key: str, text: str, unit: str) -> float:
-    """Parse what is typed in field ``key``: a bare number is read in the unit chosen beside it."""
+    """Parse what is typed in field ``key``: a bare number is read in the unit chosen beside it. A value out of
+    range is reported in the unit it was typed in ('−3 lb' says lb, not kg)."""
     t = text.strip()
     if unit and _PLAIN_NUMBER.match(t):
         t = f"{t} {unit}"
+    spec = FIELDS[key]
+    typed = typed_unit(key, t)
+    shown = typed[1] if typed else unit
+    if shown and shown != spec.unit:
+        # unit and number errors first, as parse_field gives them; then the range in the unit shown
+        value = parse_quantity(t, "percent", spec) / 100 if shown == "percent" else parse_quantity(t, spec.unit, spec)
+        lo = None if spec.lo is None else to_unit(spec.lo, key, shown)
+        hi = None if spec.hi is None else to_unit(spec.hi, key, shown)
+        check_range(to_unit(value, key, shown), lo, hi, spec, shown, lo_open=spec.lo_open)
     return parse_field(key, t)
 
 

@@ -41,6 +41,7 @@ from ventset.gui.readouts import (
     SettingsPanel,
     StatusStrip,
     first_error_text,
+    reader_units,
 )
 from ventset.gui.theme import THEMES, Theme, apply_theme
 from ventset.library import Library, load_library
@@ -305,15 +306,15 @@ class MainWindow(QMainWindow):
 
     # ------------------------------------------------------------------ plan → views
     def _show_plan(self, plan: Plan) -> None:
-        gas = self.form.gas_unit()
-        self.status.show_plan(plan, gas, self.form.state[fs.UNIT + "mass"])
+        gas, mass = self.form.gas_unit(), self.form.state[fs.UNIT + "mass"]
+        self.status.show_plan(plan, gas, mass)
         self.status.set_current(True)
-        self.settings_panel.show_plan(plan, gas)
+        self.settings_panel.show_plan(plan, gas, mass)
         self.settings_panel.set_stale(False)
         self.cautions.show_plan(plan, gas)
         self.cautions.set_stale(False)
-        self.derived.show_plan(plan, gas)
-        self.assumptions.show_plan(plan)
+        self.derived.show_plan(plan, gas, mass)
+        self.assumptions.show_plan(plan, gas)
         self.breath_plot.show_plan(plan)
         self.map_plot.show_plan(plan, gas)
         self.wave_plot.show_plan(plan)
@@ -393,7 +394,7 @@ class MainWindow(QMainWindow):
             w.set_theme(theme)
         if self.controller.plan is not None:
             plan = self.controller.plan
-            self.cautions.show_plan(plan)
+            self.cautions.show_plan(plan, self.form.gas_unit())
             if self.controller.stale:
                 self._show_invalid(self.controller.errors)
         if key in getattr(self, "theme_actions", {}):
@@ -406,7 +407,7 @@ class MainWindow(QMainWindow):
         plan = self.controller.plan
         if plan is None:
             return ""
-        text = plan_to_text(plan, self.form.gas_unit())
+        text = plan_to_text(plan, reader_units(self.form.gas_unit(), self.form.state[fs.UNIT + "mass"]))
         if self.controller.stale:
             text = "NOT CURRENT — " + first_error_text(self.controller.errors) + "\n\n" + text
         QGuiApplication.clipboard().setText(text)
