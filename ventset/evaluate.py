@@ -212,6 +212,17 @@ def evaluate(s: Subject, vt_ml: float, rate_per_min: float) -> Evaluation:
         peep_cmh2o=s.peep_cmh2o)
 
 
+def vt_at_patient(s: Subject, set_vt_ml: float, rate_per_min: float) -> float:
+    """The tidal volume (mL) the patient receives when ``set_vt_ml`` is set (or measured at the machine) at this
+    rate: the inverse of ``evaluate(s, vt, rate).set_vt_ml``. In volume mode the circuit takes
+    C_circuit·(peak − PEEP) of each breath (Chatburn 2014); the peak's rise above PEEP is proportional to the
+    volume (VT/C + R·VT/Ti), so VT = set / (set volume per mL at the patient). In pressure mode nothing is
+    taken."""
+    if set_vt_ml <= 0 or s.mode != "volume" or s.compressible_ml_cmh2o <= 0:
+        return set_vt_ml
+    return set_vt_ml / evaluate(s, 1.0, rate_per_min).set_vt_ml
+
+
 @dataclass(frozen=True)
 class GridEvaluation:
     """``evaluate`` over a grid: rows = rates, columns = tidal volumes (numpy arrays, same units)."""

@@ -60,11 +60,11 @@ def _text(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = Fal
     return t
 
 
-def _heading_row(outer: QVBoxLayout, title: QWidget, right: QWidget) -> None:
+def _heading_row(outer: QVBoxLayout, title: QWidget, right: QWidget, title_stretch: int = 1) -> None:
     """Add a panel's heading row to ``outer``: the title on the left, ``right`` (wrapping, right-aligned) taking
     the rest, so a narrow panel wraps the words instead of cutting them."""
     head = QHBoxLayout()
-    head.addWidget(title, 1, Qt.AlignmentFlag.AlignTop)
+    head.addWidget(title, title_stretch, Qt.AlignmentFlag.AlignTop)
     head.addWidget(right, 1)
     outer.addLayout(head)
 
@@ -377,7 +377,7 @@ class CautionsPanel(QFrame):
         outer.setContentsMargins(0, 0, 0, 0)
         self.title = _label(self, "Cautions", 1.2, bold=True, name="cautions-title")
         self.summary = _text(self, "", 1.0, wrap=True, name="cautions-summary", align=Qt.AlignmentFlag.AlignRight)
-        _heading_row(outer, self.title, self.summary)
+        _heading_row(outer, self.title, self.summary, title_stretch=0)  # one word: never needs to wrap
         self.stale = _label(self, "", 0.95, bold=True, wrap=True, name="cautions-stale")
         self.stale.setVisible(False)
         outer.addWidget(self.stale)
