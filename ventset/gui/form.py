@@ -7,7 +7,7 @@ and every change rebuilds the Request and hands it to the PlanController at once
 
 from __future__ import annotations
 
-from PySide6.QtCore import QEvent, QStringListModel, Qt, Signal
+from PySide6.QtCore import QEvent, QStringListModel, Qt, QTimer, Signal
 from PySide6.QtGui import QKeySequence, QUndoCommand, QUndoStack
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -69,6 +69,7 @@ FIELD_ASSUMPTION = {
 DEFAULT_WORD = {"metabolic-rate": "≈ {} (estimate)", "rate": "{} (solved)", "lean-mass": "= body mass",
                 "altitude": "{} (sea level)"}
 NO_DEFAULT = {"mass": "required", "tube-id": "not entered", "tube-length": "not entered"}
+TYPING_PAUSE_MS = 250  # a number being typed is planned once the typing pauses this long (or on Enter)
 
 
 def compact(combo: QComboBox, chars: int = 10) -> QComboBox:
@@ -428,7 +429,15 @@ class InputForm(QWidget):
         self._loading = False
         self._assumption_sources: dict[str, str] = {}
         self._errors: dict[str, str] = {}
+        # While a number is being typed the plan waits until the typing pauses (a half-typed "4" of "450" is
+        # never planned); Enter, focus-out, undo and every other change plan at once.
+        self._typing = False
+        self._submit_timer = QTimer(self)
+        self._submit_timer.setSingleShot(True)
+        self._submit_timer.setInterval(TYPING_PAUSE_MS)
+        self._submit_timer.timeout.connect(self._submit)
         self._build_ui()
+        controller.add_flush_hook(self.flush_typing)
         controller.request_changed.connect(self.load_request)
         controller.plan_ready.connect(self.show_plan)
         controller.plan_invalid.connect(self.show_errors)
@@ -660,8 +669,18 @@ class InputForm(QWidget):
         self._submit()
 
     def _typed(self, key: str, text: str) -> None:
-        self._push({fs.TEXT + key: text, fs.EXACT + key: None}, f"Edit {FIELDS[key].label}",
-                   (key, self._session))
+        self._typing = True
+        try:
+            self._push({fs.TEXT + key: text, fs.EXACT + key: None}, f"Edit {FIELDS[key].label}",
+                       (key, self._session))
+        finally:
+            self._typing = False
+
+    def flush_typing(self) -> None:
+        """Plan what is typed now, if the typing pause has not come yet."""
+        if self._submit_timer.isActive():
+            self._submit_timer.stop()
+            self._submit()
 
     def _finished(self, key: str) -> None:
         """Enter or focus out: a unit typed with the number ('35 g') moves the unit chooser (and the related
@@ -672,6 +691,7 @@ class InputForm(QWidget):
             changes = self._unit_changes(key, unit)
             changes.update({fs.TEXT + key: number, fs.EXACT + key: None})
             self._push(changes, f"Edit {FIELDS[key].label}", (key, self._session))
+        self.flush_typing()
         self._seal()
 
     def _unit_changes(self, key: str, unit: str) -> dict:
@@ -724,7 +744,11 @@ class InputForm(QWidget):
             self.units_changed.emit()
             if self.state.get(fs.UNIT + "target-paco2") != units_before.get("target-paco2"):
                 self.gas_unit_changed.emit(self.gas_unit())
-        self._submit()
+        if self._typing:
+            self._submit_timer.start()  # restarted by each keystroke
+        else:
+            self._submit_timer.stop()
+            self._submit()
 
     def _submit(self) -> None:
         request, errors = fs.request_from_state(self.state, self.library)
