@@ -10,8 +10,14 @@ import pytest
 from ventset.demo import demo_request
 from ventset.evaluate import evaluate, vt_at_patient
 from ventset.planner import plan
-from ventset.titrate import Measurement, Settings, measurement_at_set, patient_tidal_volume
-from ventset.titrate import timeline_from_dict, timeline_to_dict
+from ventset.titrate import (
+    Measurement,
+    Settings,
+    measurement_at_set,
+    patient_tidal_volume,
+    timeline_from_dict,
+    timeline_to_dict,
+)
 from ventset.titrate.record import TimelineEntry
 
 
