@@ -561,10 +561,19 @@ class AssumptionsPanel(QTableWidget):
         h.setSectionResizeMode(1, QHeaderView.ResizeMode.Interactive)
         h.setSectionResizeMode(2, QHeaderView.ResizeMode.Stretch)
         fm = self.fontMetrics()
-        self.setColumnWidth(0, fm.horizontalAdvance("Anatomical dead space (unintubated)"))
-        self.setColumnWidth(1, fm.horizontalAdvance("29.3 cmH2O/(L/s)") + fm.height())
+        self._widths = (fm.horizontalAdvance("Anatomical dead space (unintubated)"),
+                        fm.horizontalAdvance("29.3 cmH2O/(L/s)") + fm.height())
+        self.setColumnWidth(0, self._widths[0])
+        self.setColumnWidth(1, self._widths[1])
+        self.setTextElideMode(Qt.TextElideMode.ElideNone)  # cells wrap; nothing is cut to '…'
         self.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
         self._last: tuple = ()
+
+    def resizeEvent(self, e) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(e)
+        w = self.viewport().width()  # a narrow table shares its width, the source keeping at least 40 %
+        self.setColumnWidth(0, min(self._widths[0], int(w * 0.36)))
+        self.setColumnWidth(1, min(self._widths[1], int(w * 0.24)))
 
     def clear(self) -> None:
         """No plan (a new case): no assumptions."""
