@@ -37,12 +37,17 @@ def test_species_change_resets_the_previous_patient_in_one_undo_step(qtbot, wind
     settle(window)
     before = dict(form.state)
     assert before[fs.TEXT + "tube-id"] == "4" and len(before["parts"]) == 2  # the demo cat's tube and parts
-    steps = window.undo.count()
+    form.species.picked.emit("hors")  # names no species: marked, nothing reset
+    settle(window)
+    assert form.state[fs.TEXT + "tube-id"] == "4" and len(form.state["parts"]) == 2
+    window.undo.undo()
+    settle(window)
+    steps = window.undo.index()
     form.species.picked.emit("horse")
     form.set_text("mass", "450")
     settle(window)
     p = window.controller.plan
-    assert window.undo.count() == steps + 2  # the species change is one step, the mass another
+    assert window.undo.index() == steps + 2  # the species change is one step, the mass another
     assert form.state[fs.TEXT + "tube-id"] == form.state[fs.TEXT + "tube-length"] == ""
     assert form.state[fs.TEXT + "body-temperature"] == "" and form.state["parts"] == ()
     assert p.request.circuit.tube_id_mm is None and p.request.circuit.parts == ()

@@ -646,7 +646,8 @@ class InputForm(QWidget):
     def change_species(self, key: str) -> None:
         """Make ``key`` the species: one undo step that also starts the previous patient's values afresh."""
         sp = self.library.species.get(key)
-        changes = fs.species_change(self.state, key, sp.label if sp else key)
+        # Text that names no species (a typo being corrected) is marked, and resets nothing yet.
+        changes = fs.species_change(self.state, key, sp.label) if sp is not None else {"species": key}
         self._push(changes, f"Change species to {sp.label if sp else key}")
         self._seal()
 
