@@ -439,7 +439,8 @@ def test_record_accept_and_round_trip(library):
     t = record_measurement((), req, Measurement(0.0, 200.0, 10.0, paco2_mmhg=55.0, etco2_mmhg=51.0), "rate", library)
     assert t[0].proposal is not None and t[0].partial_step is not None  # a large step
     t = accept(t, 0, "partial_step")
-    assert t[0].settings_set == Settings(200.0, pytest.approx(12.5))
+    assert t[0].settings_set == Settings(200.0, pytest.approx(12.5), t[0].partial_step.set_tidal_volume_ml)
+    assert t[0].settings_set.set_tidal_volume_ml > 200.0  # what is dialled: the patient's volume and the circuit's
     assert settings_in_use(t) == t[0].settings_set
     t = record_measurement(t, req, Measurement(12.0, 200.0, 12.5, paco2_mmhg=45.0, etco2_mmhg=35.0), "rate", library)
     assert "GRADIENT_WIDENING" in {c.code for c in t[1].cautions}  # 4 → 10 mmHg

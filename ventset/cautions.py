@@ -15,6 +15,7 @@ from dataclasses import dataclass, replace
 from ventset.library import Library, Species
 from ventset.model import Caution, Plan
 from ventset.situation_cautions import SITUATION_RULES
+from ventset.stages.airway import usual_tube
 
 SEVERITY_ORDER = {"danger": 0, "caution": 1, "info": 2}
 
@@ -37,6 +38,7 @@ class Context:
     plan: Plan
     species: Species
     threshold: dict[str, float]
+    usual_tube_id_mm: float = math.nan  # the usual tube internal diameter for the patient's mass
 
     @property
     def binding(self) -> tuple[str, ...]:
@@ -455,6 +457,29 @@ def taxon_only(x: Context) -> list[Caution]:
                     exponent=g.exponent.value)]
 
 
+def tube_size(x: Context) -> list[Caution]:
+    """An entered tube far from the usual internal diameter for the mass: it may not fit, or it belongs to a much
+    smaller patient (often a value left from the previous patient)."""
+    tid, usual = x.plan.request.circuit.tube_id_mm, x.usual_tube_id_mm
+    if tid is None or not math.isfinite(usual) or usual <= 0:
+        return []
+    ratio = tid / usual
+    values = dict(tube_mm=tid, usual_mm=usual, ratio=ratio, mass_kg=x.plan.resolved.mass_kg)
+    if ratio > x.threshold["tube_id_ratio_large_caution"]:
+        return [caution("caution", "TUBE_TOO_LARGE",
+                        "The tube entered ({tube_mm} internal diameter) is {ratio} × the usual {usual_mm} for "
+                        "{mass_kg}: it is unlikely to pass the larynx without injury. Check the tube size against "
+                        "the patient.", **values)]
+    if ratio >= x.threshold["tube_id_ratio_small_caution"]:
+        return []
+    sev = "danger" if ratio < x.threshold["tube_id_ratio_small_danger"] else "caution"
+    return [caution(sev, "TUBE_TOO_SMALL",
+                    "The tube entered ({tube_mm} internal diameter) is only {ratio} × the usual {usual_mm} for "
+                    "{mass_kg}: resistance rises with 1/ID⁴ (Poiseuille) and is not in the plan's airway "
+                    "resistance, and gas leaks around it. Check that the tube entered belongs to this patient.",
+                    **values)]
+
+
 def custom_species(x: Context) -> list[Caution]:
     name = x.plan.request.patient.custom_species.strip()
     if not name or x.plan.request.patient.taxon.strip():
@@ -471,7 +496,7 @@ RULES: tuple[Callable[[Context], list[Caution]], ...] = (
     short_expiration, driving_pressure, compressible_volume, outside_species_range, limit_moved_the_plan,
     oxygenation, etco2_floor, body_temperature, metabolic_plausibility, peep_high, gradient_unreliable,
     small_patient_capnography, short_inspiration_pressure_mode, inspiratory_pause, mechanics_rough, no_tube_entered,
-    custom_species, taxon_only, thin_data, species_notes, *SITUATION_RULES,
+    tube_size, custom_species, taxon_only, thin_data, species_notes, *SITUATION_RULES,
 )
 
 
@@ -482,7 +507,8 @@ def sort_cautions(found: list[Caution]) -> tuple[Caution, ...]:
 
 def evaluate(plan: Plan, species: Species, library: Library) -> tuple[Caution, ...]:
     """Run every rule on ``plan``; return cautions sorted danger → caution → info."""
-    ctx = Context(plan, species, {k: s.value for k, s in library.cautions.items()})
+    ctx = Context(plan, species, {k: s.value for k, s in library.cautions.items()},
+                  usual_tube(plan.resolved.mass_kg, library)[0])
     return sort_cautions([c for rule in RULES for c in rule(ctx)])
 
 

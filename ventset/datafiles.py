@@ -327,7 +327,15 @@ CAUTIONS = FileSchema("cautions.toml", "thresholds of the caution rules", doc=(
                       help="of the four species inputs the expected PaCO2 and pressures rest on (metabolic level, "
                            "airway and alveolar dead space, compliance), this many or more known only from memory "
                            "give the THIN_DATA caution"),
+        SourcedNumber("tube_id_ratio_large_caution", lo=1, hi=5, lo_open=True,
+                      help="an entered tube internal diameter more than this multiple of the usual one for the "
+                      "mass (ventset/stages/airway.py usual_tube): caution, it may not fit"),
+        SourcedNumber("tube_id_ratio_small_caution", lo=0, hi=1, lo_open=True, hi_open=True,
+                      help="an entered tube internal diameter below this share of the usual one: caution"),
+        SourcedNumber("tube_id_ratio_small_danger", lo=0, hi=1, lo_open=True, hi_open=True,
+                      help="an entered tube internal diameter below this share of the usual one: danger"),
     ), checks=(below("apparatus_share_caution", "apparatus_share_danger"),
+               below("tube_id_ratio_small_danger", "tube_id_ratio_small_caution"),
                below("expiration_tau_danger", "expiration_tau_caution"),
                below("pao2_danger_mmhg", "pao2_caution_mmhg"),
                below("paco2_danger_low_mmhg", "paco2_danger_high_mmhg"))),

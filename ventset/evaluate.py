@@ -279,6 +279,17 @@ def _spread(x: Any, shape: tuple[int, ...]) -> Any:
     return x if isinstance(x, np.ndarray) and x.shape == shape else np.broadcast_to(x, shape)
 
 
+def vt_at_patient(s: Subject, set_vt_ml: float, rate_per_min: float) -> float:
+    """The tidal volume (mL) the patient receives when ``set_vt_ml`` is set (or measured at the machine) at this
+    rate: the inverse of ``evaluate(s, vt, rate).set_vt_ml``. In volume mode the circuit takes
+    C_circuit·(peak − PEEP) of each breath (Chatburn 2014); the peak's rise above PEEP is proportional to the
+    volume (VT/C + R·VT/Ti), so VT = set / (set volume per mL at the patient). In pressure mode nothing is
+    taken."""
+    if set_vt_ml <= 0 or s.mode != "volume" or s.compressible_ml_cmh2o <= 0:
+        return set_vt_ml
+    return set_vt_ml / evaluate(s, 1.0, rate_per_min).set_vt_ml
+
+
 @dataclass(frozen=True)
 class GridEvaluation:
     """``evaluate`` over a grid: rows = rates, columns = tidal volumes (numpy arrays, same units)."""

@@ -3,11 +3,17 @@
 from __future__ import annotations
 
 import os
+from pathlib import Path
 
 import pytest
 
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 os.environ.setdefault("PYQTGRAPH_QT_LIB", "PySide6")
+# The offscreen platform's screen is 800 × 800 unless configured; the window keeps itself inside the screen, so
+# give the tests a common desktop screen (1920 × 1080) to place their 1400 × 900 windows on.
+SCREEN_FILE = Path(__file__).with_name("offscreen-screen.json")
+if os.environ["QT_QPA_PLATFORM"] == "offscreen":
+    os.environ["QT_QPA_PLATFORM"] = f"offscreen:configfile={SCREEN_FILE}"
 
 
 @pytest.fixture(autouse=True)

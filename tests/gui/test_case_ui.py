@@ -77,7 +77,7 @@ def _edit_mass(window, kg: float) -> None:
 def test_case_menu_holds_the_case_actions_before_the_windows_own(make_window):
     window, manager, _ = make_window()
     texts = [a.text() for a in window.menu("Case").actions() if a.text()]
-    assert texts[:3] == ["Open case…", "Open recent", "Save case"]
+    assert texts[:4] == ["New case", "Open case…", "Open recent", "Save case"]
     assert "Copy summary for the clinical record" in texts and "Clinic parts library…" in texts
     assert texts.index("Clinic parts library…") < texts.index("Quit")
     assert manager.act_save.shortcut() == QKeySequence(QKeySequence.StandardKey.Save)

@@ -7,8 +7,10 @@ import pytest
 pytest.importorskip("PySide6")
 from PySide6.QtCore import Qt  # noqa: E402
 
+from ventset.evaluate import evaluate  # noqa: E402
 from ventset.gui.timeline import TimelinePanel, install  # noqa: E402
 from ventset.model import Circuit, Patient, Request, Targets  # noqa: E402
+from ventset.planner import plan  # noqa: E402
 
 DOG = Request(Patient("dog", 20.0, name="Juniper"), Circuit(tube_id_mm=8.0, tube_length_cm=8.0),
               Targets(paco2_mmhg=40.0))
@@ -38,9 +40,15 @@ def test_recording_a_measurement_shows_a_proposal(panel, qtbot):
     qtbot.mouseClick(panel.record_button, Qt.MouseButton.LeftButton)
     assert len(panel.entries) == 1 and panel.table.rowCount() == 1
     text = panel.proposal_text.text()
+    m = panel.entries[0].measurement
+    # The 200 mL typed is what is set on the ventilator; the circuit takes Cc·(peak − PEEP) of it (Chatburn 2014).
+    s = plan(DOG).subject
+    peak = evaluate(s, m.tidal_volume_ml, 10.0).peak_cmh2o
+    assert m.set_tidal_volume_ml == 200 and m.tidal_volume_ml < 200
+    assert m.tidal_volume_ml + s.compressible_ml_cmh2o * (peak - s.peep_cmh2o) == pytest.approx(200, rel=1e-9)
     # Alveolar ventilation equation: VT kept, rate 10 × 55/40 = 13.75/min (shown to 3 figures).
-    assert "Next: 200 mL" in text and "13.8/min" in text
-    assert "Part-way: 200 mL at 12.5/min" in text  # +37.5 % is over the 25 % step
+    assert "Next: set 200 mL (" in text and " at the patient) at 13.8/min" in text
+    assert "Part-way: set 200 mL (" in text and "at 12.5/min" in text  # +37.5 % is over the 25 % step
     assert "LARGE_STEP" not in text and "CAUTION" in text
     assert panel.set_full.isEnabled() and panel.set_partial.isEnabled()
     assert panel.edits["paco2"].text() == ""  # the measured values are in the record now
@@ -65,7 +73,8 @@ def test_accepting_sets_the_settings_in_use_and_keeps_the_record(panel, qtbot):
     panel.own_vt.setText("210")
     panel.own_rate.setText("14")
     qtbot.mouseClick(panel.set_own, Qt.MouseButton.LeftButton)
-    assert panel.entries[1].accepted == "own" and panel.entries[1].settings_set.tidal_volume_ml == 210
+    own = panel.entries[1].settings_set
+    assert panel.entries[1].accepted == "own" and own.set_tidal_volume_ml == 210 and own.tidal_volume_ml < 210
     assert panel.entries[0].accepted == "partial_step"
 
 
@@ -128,7 +137,9 @@ def test_in_the_window_the_plan_follows_what_is_set(make_window):
     panel = install(window)
     settle(window)
     assert window.tabs.indexOf(panel) >= 0
-    assert panel.edits["tidal-volume"].text() == "200"  # offered from the plan before the first record
+    # Offered from the plan before the first record: the volume to set, and what the patient receives of it.
+    assert panel.edits["tidal-volume"].text() == f"{window.controller.plan.ventilation.set_tidal_volume_ml:.4g}"
+    assert panel.vt_note.text().startswith("= 200 mL at the patient")
     fill(panel, time="0", rate="10", paco2="46")
     assert panel.record()
     panel.accept_latest("proposal")
@@ -144,3 +155,29 @@ def test_in_the_window_the_plan_follows_what_is_set(make_window):
     assert plan.ventilation.rate_per_min == pytest.approx(11.5)
     assert plan.ventilation.tidal_volume_ml == pytest.approx(200.0)
     assert "metabolic rate" in panel.status.text()
+
+
+def test_a_preference_that_cannot_be_kept_says_why_first(panel):
+    # Keep the tidal volume: 10/min × 100/40 = 25/min is past the dog's highest usual rate, so both change.
+    fill(panel, time="0", tidal_volume="223", rate="10", paco2="100")
+    assert panel.prefer.currentData() == "rate" and panel.record()
+    first = panel.proposal_text.text().split("<br><br>")[0]
+    assert first.startswith("<b>Not as chosen (keep the tidal volume, change the rate)")
+    assert "highest usual rate" in first and panel.entries[0].proposal.changed == "both"
+    assert "PROPOSAL_LIMITED" not in panel.proposal_text.text()
+    fill(panel, time="10", paco2="44")  # 10 × 44/40 = 11/min: kept, nothing to explain
+    assert panel.record()
+    assert "Not as chosen" not in panel.proposal_text.text() and panel.entries[1].proposal.changed == "rate"
+
+
+def test_species_notes_once_per_card(panel):
+    from ventset.library import load_library
+
+    notes = load_library().species["dog"].notes
+    assert notes  # the dog's entry has notes (e.g. on open-chest surgery)
+    fill(panel, time="0", tidal_volume="223", rate="10", paco2="55")  # a large step: full and part-way plans
+    assert panel.record() and panel.entries[0].partial_step is not None
+    text = panel.proposal_text.text()
+    for n in notes:
+        assert text.count(n.code) == 1, n.code
+        assert n.text[:40] not in text  # the sentence is in the Cautions panel, not repeated on every card

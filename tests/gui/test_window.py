@@ -378,7 +378,7 @@ def test_pressure_mode_shows_the_inspiratory_pressure(qtbot, make_window):
     tiles = w.settings_panel.tiles
     assert tiles["flow"].name.text() == "Inspiratory pressure"
     assert tiles["flow"].value.text() == f"{p.pressures.inspiratory_pressure_cmh2o:.3g}"
-    assert "expected" in tiles["set_vt"].detail.text()
+    assert "expected" in tiles["set_vt"].name.text() and "pressure" in tiles["set_vt"].detail.text()
     # Pressure-controlled breath: VT = C·ΔP·(1 − e^(−Ti/τ)) (single-compartment model, Marini & Crooke 1993).
     import math
     pr = p.pressures

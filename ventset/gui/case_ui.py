@@ -75,6 +75,7 @@ class CaseManager(QObject):
         self._timeline_get: Callable[[], object] | None = None
         self._timeline_put: Callable[[object], None] | None = None
         self._changed_outside = False
+        self._fresh: dict | None = None  # the form state of a new, empty case (not dirty while unchanged)
         try:
             self.session: autosave.AutosaveSession | None = autosave.AutosaveSession(autosave_folder)
         except (OSError, VentsetError) as exc:  # no autosave is bad, but not a reason to refuse to start
@@ -141,12 +142,16 @@ class CaseManager(QObject):
 
     def is_dirty(self) -> bool:
         """True when what is in the window differs from the case file (or, unsaved, from the start)."""
+        form = getattr(self.window, "form", None)
+        current = self._timeline()
+        if self._fresh is not None and form is not None and form.state == self._fresh and \
+                not self._changed_outside and (current is None or _empty_timeline(current)):
+            return False  # a new case nothing was entered in
         if self._changed_outside or self.controller.stale:
             return True
         if self.controller.request != (self.case.request if self.case else self._baseline):
             return True
         stored = self.case.timeline if self.case else None
-        current = self._timeline()
         return current is not None and current != stored and not (stored is None and _empty_timeline(current))
 
     def snapshot(self) -> cases.Case:
@@ -216,8 +221,35 @@ class CaseManager(QObject):
         self.opened.emit(opened)
         return True
 
+    def new_case(self, request=None) -> bool:
+        """Start a new case after asking to keep unsaved work: an empty form (the species kept), or ``request``
+        (the demo patient). No file, an empty anaesthetic record, a fresh undo history. True if started."""
+        if not self.ask_to_keep_changes():
+            return False
+        self.attach_timeline_panel()
+        self.case, self.path = None, None
+        if self._timeline_put is not None:
+            self._timeline_put(())
+        form = getattr(self.window, "form", None)
+        if request is None and form is not None and hasattr(form, "new_patient"):
+            form.new_patient()
+        elif request is not None:
+            self.controller.set_request(request)
+        self.controller.flush()
+        self._baseline = self.controller.request
+        self._fresh = dict(form.state) if form is not None and request is None else None
+        self._changed_outside = False
+        undo = getattr(self.window, "undo", None)
+        if undo is not None:
+            undo.clear()
+        self._refresh_title()
+        self._status("New case: the demo patient (not saved)" if request is not None else
+                     "New case: enter the patient (the species is kept; every other value is cleared)")
+        return True
+
     def _load(self, case: cases.Case, path: Path | None, *, dirty: bool) -> None:
         """Show ``case``; ``dirty`` for a restored autosave (unsaved until the user saves it)."""
+        self._fresh = None
         self.case = case
         self.path = Path(path) if path else None
         self._put_timeline(case)
@@ -251,6 +283,8 @@ class CaseManager(QObject):
 
     def save_as(self) -> bool:
         """Ask for a file and save there (the dialog has confirmed any replacement)."""
+        if self.controller.request is None:
+            return self._save_to(Path(), replace_any=False)  # says there is nothing to save
         suggested = self.path or Path.home() / f"{_slug(self.controller.request)}{cases.SUFFIX}"
         chosen = self.pick_save_path("Save case", str(suggested), CASE_FILTER)
         if not chosen:
@@ -261,6 +295,11 @@ class CaseManager(QObject):
         return self._save_to(path, replace_any=True)
 
     def _save_to(self, path: Path, *, replace_any: bool) -> bool:
+        self.controller.flush()
+        if self.controller.request is None:
+            self.warn("Nothing to save yet", f"{_first_error(self.controller.errors) or 'No patient entered'}."
+                      "\n\nEnter the patient first; nothing was written.")
+            return False
         if self.controller.stale:
             if not self.confirm("Some entries are not valid",
                                 f"{_first_error(self.controller.errors)}.\n\nSave the last valid inputs? "
@@ -384,7 +423,7 @@ class CaseManager(QObject):
 
     def _refresh_title(self, *_: object) -> None:
         req = self.controller.request
-        who = (req.patient.name or req.patient.species) if req is not None else ""
+        who = (req.patient.name or req.patient.species) if req is not None else "new patient"
         where = self.path.name if self.path else "not saved"
         self.window.setWindowTitle(f"ventset — {who} — {where}[*]")
         self.window.setWindowModified(self.is_dirty())
@@ -749,6 +788,7 @@ def install(window, *, offer_recovery: bool = True, autosave_folder: Path | None
         menu.insertAction(first, a)
         return a
 
+    manager.act_new = act("New case", manager.new_case, QKeySequence.StandardKey.New, "act-new")
     manager.act_open = act("Open case…", manager.open_dialog, QKeySequence.StandardKey.Open, "act-open")
     recent = QMenu("Open recent", window)
     recent.setObjectName("menu-recent")

@@ -36,6 +36,7 @@ class PlanController(QObject):
         self._timer.setSingleShot(True)
         self._timer.setInterval(0)
         self._timer.timeout.connect(self.replan_now)
+        self._flush_hooks: list = []  # input held back while typing (the form's debounce): handed over by flush()
 
     @property
     def stale(self) -> bool:
@@ -50,13 +51,27 @@ class PlanController(QObject):
             self.request_changed.emit(request)
         self._timer.start()
 
+    def clear(self) -> None:
+        """Forget the patient (a new case): no request and no plan until the form describes a new one."""
+        self._timer.stop()
+        self.request = None
+        self.plan = None
+        self.errors = []
+        self._pending_errors = None
+
     def set_invalid(self, errors: list[InputError]) -> None:
         """The form has input that does not parse: keep the last plan, flag it stale."""
         self._pending_errors = list(errors)
         self._timer.start()
 
+    def add_flush_hook(self, hook) -> None:
+        """``hook()`` runs first in every ``flush``: a view that holds back half-typed input submits it."""
+        self._flush_hooks.append(hook)
+
     def flush(self) -> None:
         """Run a pending replan now (tests, and before reading ``plan`` synchronously)."""
+        for hook in self._flush_hooks:
+            hook()
         if self._timer.isActive():
             self._timer.stop()
             self.replan_now()

@@ -7,7 +7,7 @@ and every change rebuilds the Request and hands it to the PlanController at once
 
 from __future__ import annotations
 
-from PySide6.QtCore import QEvent, QStringListModel, Qt, Signal
+from PySide6.QtCore import QEvent, QStringListModel, Qt, QTimer, Signal
 from PySide6.QtGui import QKeySequence, QUndoCommand, QUndoStack
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -36,8 +36,9 @@ from ventset.gui import formstate as fs
 from ventset.gui.situations import SituationPicker
 from ventset.gui.text import esc, plain, plain_tip
 from ventset.gui.theme import DAY, Theme, scaled_font
-from ventset.library import Library
+from ventset.library import TAXON_PREFIX, Library
 from ventset.model import STRATEGIES, STRATEGY_LABELS, Plan, Request
+from ventset.present.quantities import show
 from ventset.units import fmt
 
 # Where each field sits: (group, shown at once, under "More ..."). Fields added to FIELDS later
@@ -71,6 +72,7 @@ DEFAULT_WORD = {"metabolic-rate": "≈ {} (estimate)", "rate": "{} (solved)", "l
                 "altitude": "{} (sea level)"}
 NO_DEFAULT = {"mass": "required", "tube-id": "not entered", "tube-length": "not entered",
               "oxygen-supply": "a full cylinder", "duration": "2 h"}
+TYPING_PAUSE_MS = 250  # a number being typed is planned once the typing pauses this long (or on Enter)
 
 
 def compact(combo: QComboBox, chars: int = 10) -> QComboBox:
@@ -432,7 +434,15 @@ class InputForm(QWidget):
         self._loading = False
         self._assumption_sources: dict[str, str] = {}
         self._errors: dict[str, str] = {}
+        # While a number is being typed the plan waits until the typing pauses (a half-typed "4" of "450" is
+        # never planned); Enter, focus-out, undo and every other change plan at once.
+        self._typing = False
+        self._submit_timer = QTimer(self)
+        self._submit_timer.setSingleShot(True)
+        self._submit_timer.setInterval(TYPING_PAUSE_MS)
+        self._submit_timer.timeout.connect(self._submit)
         self._build_ui()
+        controller.add_flush_hook(self.flush_typing)
         controller.request_changed.connect(self.load_request)
         controller.plan_ready.connect(self.show_plan)
         controller.plan_invalid.connect(self.show_errors)
@@ -519,7 +529,7 @@ class InputForm(QWidget):
         grid.addWidget(row.error, self._r + 1, 0, 1, 3)
         self._r += 2
         row.edit.textEdited.connect(lambda text, k=key: self._typed(k, text))
-        row.edit.editingFinished.connect(self._seal)
+        row.edit.editingFinished.connect(lambda k=key: self._finished(k))
         if isinstance(row.unit, QComboBox):
             row.unit.activated.connect(lambda i, k=key: self._unit_picked(k, i))
 
@@ -547,11 +557,17 @@ class InputForm(QWidget):
                         "Type any part of a name or alias (e.g. 'budgie', 'pony', 'bearded dragon') and pick "
                         "from the list. Every default below comes from this entry of the species library. For a "
                         "species not listed, pick 'Not listed — by group' to plan from its metabolic group alone.")
-        self.species.picked.connect(lambda key: self._push({"species": key}, "Change species"))
+        self.species.picked.connect(self.change_species)
         self.species_error = plain(QLabel(box))
         self.species_error.setWordWrap(True)
         self.species_error.setVisible(False)
         grid.addWidget(self.species_error, self._r, 0, 1, 3)
+        self._r += 1
+        self.species_notice = plain(QLabel(box))
+        self.species_notice.setObjectName("species-notice")
+        self.species_notice.setWordWrap(True)
+        self.species_notice.setVisible(False)
+        grid.addWidget(self.species_notice, self._r, 0, 1, 3)
         self._r += 1
         self.custom_edit = FieldEdit(box)
         self.custom_edit.setObjectName("custom-species")
@@ -662,17 +678,74 @@ class InputForm(QWidget):
             return
         self.undo.push(StateCommand(self, changes, text, merge_key))
 
+    def change_species(self, key: str) -> None:
+        """Make ``key`` the species: one undo step that also starts the previous patient's values afresh."""
+        sp = self.library.species.get(key)
+        if sp is None and key.startswith(TAXON_PREFIX):  # a species not listed, by its metabolic group
+            sp = self.library.taxa.get(key.removeprefix(TAXON_PREFIX))
+        # Text that names no species (a typo being corrected) is marked, and resets nothing yet.
+        changes = fs.species_change(self.state, key, sp.label) if sp is not None else {"species": key}
+        self._push(changes, f"Change species to {sp.label if sp else key}")
+        self._seal()
+
+    def new_patient(self) -> None:
+        """An empty form for a new patient: the species and the units stay, everything else is cleared. Not an
+        undo step (a new case starts a new history) and no plan until the body mass is entered."""
+        fresh = fs.blank_state(self.units())
+        fresh["species"] = self.state.get("species", "")
+        self._loading = True
+        try:
+            self.state.clear()
+            self.state.update(fresh)
+            self._sync_all()
+        finally:
+            self._loading = False
+        for key, row in self.rows.items():
+            row.edit.setPlaceholderText(NO_DEFAULT.get(key, ""))
+        self._seal()
+        self.controller.clear()
+        self._submit()
+
     def _typed(self, key: str, text: str) -> None:
-        self._push({fs.TEXT + key: text, fs.EXACT + key: None}, f"Edit {FIELDS[key].label}",
-                   (key, self._session))
+        self._typing = True
+        try:
+            self._push({fs.TEXT + key: text, fs.EXACT + key: None}, f"Edit {FIELDS[key].label}",
+                       (key, self._session))
+        finally:
+            self._typing = False
+
+    def flush_typing(self) -> None:
+        """Plan what is typed now, if the typing pause has not come yet."""
+        if self._submit_timer.isActive():
+            self._submit_timer.stop()
+            self._submit()
+
+    def _finished(self, key: str) -> None:
+        """Enter or focus out: a unit typed with the number ('35 g') moves the unit chooser (and the related
+        fields) to it, in the same undo step as the typing; the next keystroke starts a new step."""
+        typed = fs.typed_unit(key, self.state.get(fs.TEXT + key, ""))
+        if typed is not None and typed[1] != self.state.get(fs.UNIT + key):
+            number, unit = typed
+            changes = self._unit_changes(key, unit)
+            changes.update({fs.TEXT + key: number, fs.EXACT + key: None})
+            self._push(changes, f"Edit {FIELDS[key].label}", (key, self._session))
+        self.flush_typing()
+        self._seal()
+
+    def _unit_changes(self, key: str, unit: str) -> dict:
+        """State changes that show ``key`` and its related fields (formstate.related) in ``unit``."""
+        changes: dict = {}
+        for k in (key, *fs.related(key)):
+            if unit in FIELDS[k].units:
+                changes.update(fs.convert_field(self.state, k, unit))
+        return changes
 
     def _unit_picked(self, key: str, index: int) -> None:
         unit = self.rows[key].unit.itemData(index)
         if key in fs.GAS_FIELDS:
             self.set_gas_unit(unit)
             return
-        changes = fs.convert_field(self.state, key, unit)
-        self._push(changes, f"Show {FIELDS[key].label} in {fs.shown_unit(unit, key)}")
+        self._push(self._unit_changes(key, unit), f"Show {FIELDS[key].label} in {fs.shown_unit(unit, key)}")
         self._seal()
 
     def set_gas_unit(self, unit: str) -> None:
@@ -694,10 +767,10 @@ class InputForm(QWidget):
         self._push({fs.CHOICE + pair: key}, f"Use {FIELDS[key].label}")
 
     def set_text(self, key: str, text: str) -> None:
-        """Type ``text`` into field ``key`` as the user would (one undo step)."""
+        """Type ``text`` into field ``key`` and press Enter, as the user would (one undo step)."""
         self._seal()
         self._typed(key, text)
-        self._seal()
+        self._finished(key)
 
     # ---------------------------------------------------------------- state → widgets → request
     def _apply(self, values: dict) -> None:
@@ -709,7 +782,11 @@ class InputForm(QWidget):
             self.units_changed.emit()
             if self.state.get(fs.UNIT + "target-paco2") != units_before.get("target-paco2"):
                 self.gas_unit_changed.emit(self.gas_unit())
-        self._submit()
+        if self._typing:
+            self._submit_timer.start()  # restarted by each keystroke
+        else:
+            self._submit_timer.stop()
+            self._submit()
 
     def _submit(self) -> None:
         request, errors = fs.request_from_state(self.state, self.library)
@@ -771,6 +848,9 @@ class InputForm(QWidget):
             self.parts_editor.show_parts(s[k])
         elif k == "situations":
             self.situations.show_keys(s[k])
+        elif k == "notice":
+            self.species_notice.setText(s[k])
+            self.species_notice.setVisible(bool(s[k]))
 
     # ---------------------------------------------------------------- from the controller
     def load_request(self, request: Request) -> None:
@@ -861,8 +941,8 @@ class InputForm(QWidget):
             self.circuit_combo.setItemText(0, circ)
         d = plan.dead_space
         self.parts_editor.message.setText(
-            f"Apparatus {fmt(d.apparatus_ml)} mL + tube {fmt(d.tube_ml)} mL = "
-            f"{fmt(d.apparatus_ml + d.tube_ml)} mL of dead space before the airway."
+            f"Apparatus {show(d.apparatus_ml, 'volume')} + tube {show(d.tube_ml, 'volume')} = "
+            f"{show(d.apparatus_ml + d.tube_ml, 'volume')} of dead space before the airway."
             if "parts" not in self._errors else self.parts_editor.message.text())
         if "parts" not in self._errors:
             self.parts_editor.message.setStyleSheet("")
@@ -870,6 +950,8 @@ class InputForm(QWidget):
     def set_theme(self, theme: Theme) -> None:
         self.theme = theme
         self.setStyleSheet(theme.form_style)
+        self.species_notice.setStyleSheet(f"background: {theme.info_bg}; color: {theme.text}; "
+                                          f"border: 1px solid {theme.info}; border-radius: 3px; padding: 2px;")
         marks, self._errors = self._errors, {}
         self._set_errors(marks)
 

@@ -22,13 +22,19 @@ from ventset.errors import InputError
 from ventset.fields import FIELDS, SITUATIONS_KEY, TEXT_INPUTS, get_path, parse_field, request_from_inputs
 from ventset.library import TAXON_PREFIX, Library
 from ventset.model import ApparatusPart, Patient, Request
-from ventset.units import convert, fmt, parse_quantity
+from ventset.units import check_range, convert, find_unit, fmt, parse_quantity
 
 TEXT, UNIT, EXACT, CHOICE = "text:", "unit:", "exact:", "choice:"
 
 # Either-or pairs: only the chosen member is sent to the planner (it rejects both at once).
 PAIRS: dict[str, tuple[str, str]] = {"target": ("target-paco2", "target-etco2"), "timing": ("ie", "ti")}
 GAS_FIELDS = tuple(k for k, s in FIELDS.items() if s.unit == "mmHg")
+
+# Fields shown in one unit together: choosing (or typing) a unit in one moves the others (gas pressures always
+# move together, see GAS_FIELDS; body and lean mass; PEEP and the pressure limit).
+RELATED: dict[str, tuple[str, ...]] = {"mass": ("lean-mass",), "lean-mass": ("mass",), "peep": ("pressure-limit",),
+                                       "pressure-limit": ("peep",)}
+_TYPED = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(\S.*?)\s*$")
 
 _SHOWN = {"degC": "°C", "degF": "°F", "1/min": "/min", "cmH2O*s/L": "cmH2O/(L/s)", "percent": "%"}
 _PLAIN_NUMBER = re.compile(r"^\s*[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?\s*$")
@@ -69,11 +75,40 @@ def edit_text(value: float) -> str:
     return fmt(value, 4)
 
 
+def related(key: str) -> tuple[str, ...]:
+    """The fields that show their values in the same unit as ``key`` (itself not included)."""
+    if key in GAS_FIELDS:
+        return tuple(k for k in GAS_FIELDS if k != key)
+    return RELATED.get(key, ())
+
+
+def typed_unit(key: str, text: str) -> tuple[str, str] | None:
+    """(number, unit) when ``text`` is a number followed by one of the units offered beside field ``key``
+    ('35 g' in body mass gives ('35', 'g')), else None."""
+    m = _TYPED.match(text or "")
+    if not m or len(FIELDS[key].units) < 2:
+        return None
+    unit = find_unit(m.group(2))
+    if unit is None or unit.name not in FIELDS[key].units:
+        return None
+    return m.group(1), unit.name
+
+
 def parse_text(key: str, text: str, unit: str) -> float:
-    """Parse what is typed in field ``key``: a bare number is read in the unit chosen beside it."""
+    """Parse what is typed in field ``key``: a bare number is read in the unit chosen beside it. A value out of
+    range is reported in the unit it was typed in ('−3 lb' says lb, not kg)."""
     t = text.strip()
     if unit and _PLAIN_NUMBER.match(t):
         t = f"{t} {unit}"
+    spec = FIELDS[key]
+    typed = typed_unit(key, t)
+    shown = typed[1] if typed else unit
+    if shown and shown != spec.unit:
+        # unit and number errors first, as parse_field gives them; then the range in the unit shown
+        value = parse_quantity(t, "percent", spec) / 100 if shown == "percent" else parse_quantity(t, spec.unit, spec)
+        lo = None if spec.lo is None else to_unit(spec.lo, key, shown)
+        hi = None if spec.hi is None else to_unit(spec.hi, key, shown)
+        check_range(to_unit(value, key, shown), lo, hi, spec, shown, lo_open=spec.lo_open)
     return parse_field(key, t)
 
 
@@ -109,7 +144,7 @@ def blank_state(units: dict[str, str] | None = None) -> dict:
     """Every key present, every field empty, units from ``units`` (else the first choice)."""
     units = units or {}
     state: dict = {"species": "", "custom_species": "", "name": "", "mode": "", "circuit": "",
-                   "strategy": "volume_first", "parts": (), "situations": (), "machine": ""}
+                   "strategy": "volume_first", "parts": (), "situations": (), "machine": "", "notice": ""}
     for key, spec in FIELDS.items():
         state[TEXT + key] = ""
         state[UNIT + key] = units.get(key, spec.units[0])
@@ -117,6 +152,42 @@ def blank_state(units: dict[str, str] | None = None) -> dict:
     for name, members in PAIRS.items():
         state[CHOICE + name] = members[0]
     return state
+
+
+# What belongs to one patient rather than to the clinician's aims: a new species starts these afresh from its own
+# defaults (the name, body mass, targets, mode and method stay). Values by mass or by species: the tube, the
+# breathing system and its parts, temperature, lean mass, the patient's own measurements, Ti, VT per kg and rate.
+PATIENT_FIELDS = ("lean-mass", "body-temperature", "metabolic-rate", "rq", "alveolar-dead-space", "compliance",
+                  "resistance", "tube-id", "tube-length", "compressible-volume", "gradient", "ti", "vt-per-kg",
+                  "rate")
+
+
+def species_change(state: dict, species: str, species_label: str) -> dict:
+    """The state changes that make ``species`` the patient's species and reset what belonged to the previous
+    patient (PATIENT_FIELDS, the apparatus parts and the breathing system), with a one-line ``notice`` saying
+    what was reset. The species alone when it was not set before or is unchanged."""
+    changes: dict = {"species": species}
+    if not state.get("species") or state.get("species") == species:
+        return changes
+    reset = []
+    for key in PATIENT_FIELDS:
+        if key in FIELDS and state.get(TEXT + key, "").strip():
+            changes[TEXT + key] = ""
+            changes[EXACT + key] = None
+            reset.append(FIELDS[key].label)
+    if state.get("parts"):
+        n = len(state["parts"])
+        changes["parts"] = ()
+        reset.append(f"apparatus ({n} part{'s' if n != 1 else ''})")
+    if state.get("circuit"):
+        changes["circuit"] = ""
+        reset.append("breathing system")
+    if state.get("situations"):
+        changes["situations"] = ()
+        reset.append("situations")
+    changes["notice"] = (f"New species {species_label}: reset to its defaults: {', '.join(reset)}." if reset
+                         else "")
+    return changes
 
 
 def state_from_request(request: Request, units: dict[str, str], library: Library) -> dict:

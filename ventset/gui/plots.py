@@ -10,6 +10,7 @@ import pyqtgraph as pg
 from PySide6.QtCore import QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QBrush, QColor, QPen
 from PySide6.QtWidgets import (
+    QBoxLayout,
     QFrame,
     QGraphicsItem,
     QGraphicsRectItem,
@@ -66,7 +67,9 @@ class PlotCard(QFrame):
         self.title = plain(QLabel(title, self))
         self.title.setFont(scaled_font(self.font(), 1.05, bold=True))
         self.title.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
-        self.caption = Text("", self, wrap=True, name="plot-caption", lines=3)
+        self.title.setWordWrap(True)  # a narrow card wraps its title instead of cutting it (after the policy)
+        self.caption = Text("", self, wrap=True, name="plot-caption", lines=3, keep_whole=True)
+        self.setMinimumWidth(self.fontMetrics().averageCharWidth() * 30)  # narrower, no plot is legible
         self.caption.setFont(scaled_font(self.font(), 0.9))
         head = QHBoxLayout()
         head.setContentsMargins(0, 0, 0, 0)
@@ -110,6 +113,53 @@ class PlotCard(QFrame):
             ax.label.setFont(self.font())
             # Axes change only when their range does: keep them as a pixmap instead of redrawing the text.
             ax.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+
+
+class PlotPage(QWidget):
+    """The plot cards in two columns, or stacked in one when the page is too narrow for two legible plots
+    (each card then keeps the height it would have had); a card enlarged hides the others."""
+
+    COLUMN_CHARS = 36  # a plot narrower than this many characters cannot show its axes and labels whole
+
+    def __init__(self, parent: QWidget | None = None, spacing: int = 4) -> None:
+        super().__init__(parent)
+        self.row = QBoxLayout(QBoxLayout.Direction.LeftToRight, self)
+        self.row.setContentsMargins(0, spacing, 0, 0)
+        self.row.setSpacing(spacing)
+        self.columns = (QWidget(self), QWidget(self))
+        for column in self.columns:
+            lay = QVBoxLayout(column)
+            lay.setContentsMargins(0, 0, 0, 0)
+            lay.setSpacing(spacing)
+            self.row.addWidget(column, 1)
+        self.cards: list[PlotCard] = []
+        self.base_height = self.fontMetrics().lineSpacing() * 34
+        self.stacked = False
+        self.setMinimumHeight(self.base_height)
+
+    def add(self, column: int, card: PlotCard, stretch: int) -> None:
+        self.columns[column].layout().addWidget(card, stretch)
+        self.cards.append(card)
+
+    def enlarge(self, card: PlotCard | None) -> None:
+        """Show ``card`` alone over the whole page, or every card (None)."""
+        for column in self.columns:
+            column.setVisible(card is None or column.isAncestorOf(card))
+        for c in self.cards:
+            c.setVisible(card is None or c is card)
+        self._fit(self.width())
+
+    def _fit(self, width: int) -> None:
+        alone = sum(1 for c in self.cards if not c.isHidden()) == 1
+        stacked = not alone and width < 2 * self.COLUMN_CHARS * self.fontMetrics().averageCharWidth()
+        if stacked != self.stacked:
+            self.stacked = stacked
+            self.row.setDirection(QBoxLayout.Direction.TopToBottom if stacked else QBoxLayout.Direction.LeftToRight)
+        self.setMinimumHeight(self.base_height * (2 if stacked else 1))
+
+    def resizeEvent(self, e) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(e)
+        self._fit(self.width())
 
 
 def _new_plot_widget(parent: QWidget) -> pg.PlotWidget:

@@ -3,7 +3,7 @@ the assumptions trail. Widgets are created once; each plan only changes their te
 
 from __future__ import annotations
 
-import math
+import re
 
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
@@ -26,19 +26,17 @@ from ventset.errors import InputError, one_line
 from ventset.glossary import tooltip
 from ventset.gui.text import Reading, Text, plain, plain_tip
 from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours, severity_pixmap
-from ventset.model import STANDING_NOTICE, STRATEGY_LABELS, Plan
-from ventset.units import fmt, gas_pressure, gas_units_in_text, mmhg_to_kpa
+from ventset.model import STANDING_NOTICE, Plan
+from ventset.present.quantities import Units
+from ventset.present.rows import Row, assumption_rows, derived_sections, expectation_line, patient_line, setting_rows
+
+_WARNING = re.compile(r"(⚠[^·]*)")
 
 
-def gas(mmhg: float, unit: str) -> tuple[str, str]:
-    """(number, unit) for a gas pressure held in mmHg, in the user's unit; '—' when not finite."""
-    if not math.isfinite(mmhg):
-        return "—", unit
-    return (fmt(mmhg_to_kpa(mmhg), 3) if unit == "kPa" else fmt(mmhg, 3)), unit
-
-
-def gas_text(mmhg: float, unit: str) -> str:
-    return gas_pressure(mmhg, unit) if math.isfinite(mmhg) else "— (no alveolar ventilation)"
+def reader_units(gas_unit: str = "mmHg", mass_unit: str = "kg") -> Units:
+    """The reader's units as the presentation layer takes them (gas 'mmHg'/'kPa', mass 'kg'/'g'/'lb')."""
+    return Units(gas=gas_unit if gas_unit in ("mmHg", "kPa") else "mmHg",
+                 mass=mass_unit if mass_unit in ("kg", "g", "lb") else "kg")
 
 
 def _label(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = False, wrap: bool = False,
@@ -62,12 +60,12 @@ def _text(parent: QWidget, text: str = "", factor: float = 1.0, bold: bool = Fal
     return t
 
 
-def _heading_row(outer: QVBoxLayout, title: QWidget, right: QWidget) -> None:
-    """Add a panel's heading row to ``outer``: the title on the left, ``right`` at the right edge."""
+def _heading_row(outer: QVBoxLayout, title: QWidget, right: QWidget, title_stretch: int = 1) -> None:
+    """Add a panel's heading row to ``outer``: the title on the left, ``right`` (wrapping, right-aligned) taking
+    the rest, so a narrow panel wraps the words instead of cutting them."""
     head = QHBoxLayout()
-    head.addWidget(title)
-    head.addStretch(1)
-    head.addWidget(right)
+    head.addWidget(title, title_stretch, Qt.AlignmentFlag.AlignTop)
+    head.addWidget(right, 1)
     outer.addLayout(head)
 
 
@@ -106,8 +104,7 @@ class StatusStrip(QFrame):
         m = self.fontMetrics().height() // 3
         lay.setContentsMargins(m * 2, m, m * 2, m)
         self.badge = _label(self, "", 1.0, bold=True, name="plan-state")
-        self.patient = _text(self, "", 1.15, bold=True, name="patient-summary")
-        self.patient.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.patient = _text(self, "", 1.15, bold=True, wrap=True, name="patient-summary")
         self.expect = _text(self, "", 1.0, wrap=True, name="expect-line", markup=True)  # numbers only
         self.counts = _text(self, "", 1.0, bold=True, name="caution-counts", align=Qt.AlignmentFlag.AlignRight)
         self.problem = _text(self, "", 1.0, bold=True, wrap=True, name="stale-reason")
@@ -151,37 +148,20 @@ class StatusStrip(QFrame):
         self.problem.setVisible(not current)
         self.fix.setVisible(not current and bool(key))
 
+    def clear(self) -> None:
+        """No plan (a new case): nothing of an earlier patient is shown."""
+        self.patient.setText("New patient: no plan yet")
+        self.expect.setText("")
+        self.counts.setText("")
+
     def show_plan(self, plan: Plan, gas_unit: str, mass_unit: str) -> None:
-        r, v, p = plan.resolved, plan.ventilation, plan.pressures
-        name = plan.request.patient.name
-        label = r.species_label
-        custom = getattr(plan.request.patient, "custom_species", "")
-        if custom and custom.lower() not in label.lower():
-            label = f"{custom} (values from {r.species_label})"
-        mass = _mass_text(r.mass_kg, mass_unit)
-        lean = f", lean {_mass_text(r.lean_mass_kg, mass_unit)}" if abs(r.lean_mass_kg - r.mass_kg) > 1e-12 else ""
-        self.patient.setText(f"{name + ' — ' if name else ''}{label}, {mass}{lean}, {fmt(r.body_temp_c)} °C · "
-                             f"{'volume' if r.mode == 'volume' else 'pressure'}-controlled")
-        if math.isfinite(v.expected_paco2_mmhg):
-            reached = "" if v.target_reached else "  ·  <b>⚠ TARGET NOT REACHED</b>"
-            self.expect.setText(
-                f"Expect EtCO2 ≈ {gas_text(v.expected_etco2_mmhg, gas_unit)} and PaCO2 ≈ "
-                f"{gas_text(v.expected_paco2_mmhg, gas_unit)} (target {gas_text(v.target_paco2_mmhg, gas_unit)})"
-                f" · plateau {fmt(p.plateau_cmh2o)} cmH2O · {STRATEGY_LABELS[r.strategy].split(',')[0].lower()}"
-                f"{reached}")
-        else:
-            self.expect.setText("<b>⚠ NO ALVEOLAR VENTILATION at these settings: every breath is dead space.</b> "
-                                "Remove apparatus dead space before ventilating.")
+        units = reader_units(gas_unit, mass_unit)
+        self.patient.setText(patient_line(plan, units))
+        # The project's own sentence (no user text): its warnings drawn bold in the danger colour.
+        self.expect.setText(_WARNING.sub(lambda m: f"<b>{m.group(1).strip()}</b> ", expectation_line(plan, units))
+                            .strip())
         n = {s: sum(1 for c in plan.cautions if c.severity == s) for s in ("danger", "caution", "info")}
         self.counts.setText(f"{n['danger']} danger · {n['caution']} caution · {n['info']} info")
-
-
-def _mass_text(kg: float, unit: str) -> str:
-    if unit == "lb":
-        return f"{fmt(kg / 0.45359237)} lb ({fmt(kg)} kg)"
-    if unit == "g":
-        return f"{fmt(kg * 1000)} g"
-    return f"{fmt(kg)} kg"
 
 
 class _UnitOf:
@@ -208,10 +188,9 @@ class Tile(QFrame):
         self.setFrameShape(QFrame.Shape.StyledPanel)
         lay = QVBoxLayout(self)
         m = self.fontMetrics().height() // 3
-        lay.setContentsMargins(m * 2, m, m * 2, m)
+        lay.setContentsMargins(m, m, m, m)
         lay.setSpacing(0)
-        self.name = _text(self, name, 0.95, bold=True, name=f"tile-{key}-name")
-        self.name.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.name = _text(self, name, 0.95, bold=True, wrap=True, name=f"tile-{key}-name")
         row = QHBoxLayout()
         row.setSpacing(m)
         self.value = Reading(self, name=f"tile-{key}-value")
@@ -225,6 +204,14 @@ class Tile(QFrame):
         lay.addStretch(1)
         self.setToolTip(tooltip(key))
         self.setAccessibleName(name)
+
+    def needed_width(self) -> int:
+        """The narrowest this tile can be with nothing cut: the reading at its smallest comfortable size, and
+        the longest word (or number) of its name and detail."""
+        m = self.layout().contentsMargins()
+        inner = max(self.value.width_at(Reading.MIN_SCALE), self.name.longest_unbroken(),
+                    self.detail.longest_unbroken())
+        return inner + m.left() + m.right() + 2 * self.frameWidth()
 
     def display(self, name: str, value: str, unit: str, detail: str) -> None:
         if self.name.text() != name:
@@ -247,19 +234,19 @@ class SettingsPanel(QFrame):
         self.setObjectName("settings-panel")
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
-        self.title = _label(self, "Recommended starting settings", 1.2, bold=True, name="settings-title")
-        self.stale_tag = _label(self, "", 1.0, bold=True, name="settings-stale")
+        self.title = _label(self, "Recommended starting settings", 1.2, bold=True, wrap=True, name="settings-title")
+        self.stale_tag = _label(self, "", 1.0, bold=True, wrap=True, name="settings-stale")
+        self.stale_tag.setAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         _heading_row(outer, self.title, self.stale_tag)
         grid = QGridLayout()
         sp = self.fontMetrics().height() // 3
         grid.setSpacing(sp)
+        self.grid = grid
         self.tiles: dict[str, Tile] = {}
-        for i, (key, name, unit) in enumerate(self.TILES):
-            tile = Tile(key, name, unit, self, lines=3 if key == "fresh_gas" else 2)
-            self.tiles[key] = tile
-            grid.addWidget(tile, i // 4, i % 4)
-        for c in range(4):
-            grid.setColumnStretch(c, 1)
+        for key, name, unit in self.TILES:
+            self.tiles[key] = Tile(key, name, unit, self, lines=3 if key == "fresh_gas" else 2)
+        self.columns = 0
+        self._place(4)
         outer.addLayout(grid)
         from ventset.gui.machine_tiles import MachineStrip
 
@@ -269,6 +256,32 @@ class SettingsPanel(QFrame):
         self.theme = DAY
         self._stale: bool | None = None
         self.set_stale(False)
+
+    COLUMN_CHOICES = (4, 3, 2, 1)
+
+    def _place(self, columns: int) -> None:
+        """Lay the tiles out in ``columns`` columns (rows as needed)."""
+        if columns == self.columns:
+            return
+        for tile in self.tiles.values():
+            self.grid.removeWidget(tile)
+        for c in range(max(self.columns, columns)):
+            self.grid.setColumnStretch(c, 1 if c < columns else 0)
+        for i, tile in enumerate(self.tiles.values()):
+            self.grid.addWidget(tile, i // columns, i % columns)
+        self.columns = columns
+
+    def reflow(self) -> None:
+        """As many columns as keep every tile's number, name and detail whole at this width."""
+        width = self.width()
+        need = max(t.needed_width() for t in self.tiles.values())
+        sp = self.grid.horizontalSpacing()
+        fits = [c for c in self.COLUMN_CHOICES if (width - (c - 1) * sp) / c >= need]
+        self._place(fits[0] if fits else 1)
+
+    def resizeEvent(self, e) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(e)
+        self.reflow()
 
     def set_theme(self, theme: Theme) -> None:
         self.theme = theme
@@ -290,39 +303,18 @@ class SettingsPanel(QFrame):
                 w.setColour(value_colour)
         self.stale_tag.setText("⚠ STALE: last valid plan, not the current input" if stale else "")
 
-    def show_plan(self, plan: Plan, gas_unit: str) -> None:
-        v, p, o, r = plan.ventilation, plan.pressures, plan.oxygen, plan.resolved
-        lean = r.lean_mass_kg
-        t = self.tiles
-        if r.mode == "pressure":
-            t["set_vt"].display("Tidal volume", fmt(v.tidal_volume_ml), "mL",
-                                f"expected: {fmt(v.tidal_volume_ml / lean)} mL/kg from the pressure")
-            t["flow"].display("Inspiratory pressure", fmt(p.inspiratory_pressure_cmh2o), "cmH2O",
-                              f"above PEEP ({fmt(p.peak_cmh2o)} cmH2O at the airway)")
-        else:
-            comp = (f"; + {fmt(p.compressed_ml)} mL circuit" if p.compressed_ml >= 0.05 else "")
-            t["set_vt"].display("Set tidal volume", fmt(v.set_tidal_volume_ml), "mL",
-                                f"{fmt(v.tidal_volume_ml / lean)} mL/kg at patient{comp}")
-            t["flow"].display("Inspiratory flow", fmt(v.inspiratory_flow_l_min), "L/min",
-                           f"constant over Ti ({fmt(v.inspiratory_flow_l_min * 1000 / 60)} mL/s)")
-        t["rate"].display("Rate", fmt(v.rate_per_min), "/min", f"minute volume {fmt(v.minute_ml_min / 1000)} L/min")
-        t["ti"].display("Inspiratory time", fmt(v.ti_s), "s",
-                        f"Te {fmt(v.te_s)} s · I:E 1:{fmt(r.ie_expiratory_part, 2)}")
-        t["peep"].display("PEEP", fmt(p.peep_cmh2o), "cmH2O", f"plateau {fmt(p.plateau_cmh2o)} cmH2O, driving "
-                                                           f"{fmt(p.driving_cmh2o)} cmH2O")
-        over = " ⚠ ABOVE LIMIT" if p.peak_cmh2o > p.pressure_limit_cmh2o + 1e-9 else ""
-        what = "inspiratory" if r.mode == "pressure" else "peak"
-        t["limit"].display("Pressure limit", fmt(p.pressure_limit_cmh2o), "cmH2O",
-                           f"{what} {fmt(p.peak_cmh2o)} cmH2O{over}")
-        t["fio2"].display("FiO2", f"{o.fio2:.2f}", f"({fmt(o.fio2 * 100)} %)",
-                       f"alveolar PO2 ≈ {gas_text(o.pao2_alveolar_mmhg, gas_unit)}")
-        induct = (f"; induction {fmt(o.fresh_gas_induction_ml_min / 1000)} L/min"
-                  if o.fresh_gas_induction_ml_min > o.fresh_gas_ml_min + 1e-9 else "")
-        bag = getattr(o, "reservoir_bag_l", 0.0)
-        bag_txt = f"; bag {fmt(bag)} L" if bag else ""
-        t["fresh_gas"].display("Fresh gas flow", fmt(o.fresh_gas_ml_min / 1000), "L/min",
-                               f"{o.circuit_label.split(' (')[0]}{induct}{bag_txt}")
+    def clear(self) -> None:
+        """No plan (a new case): every tile shows a dash."""
+        for key, name, unit in self.TILES:
+            self.tiles[key].display(name, "—", unit, "")
+        self.reflow()
+
+    def show_plan(self, plan: Plan, gas_unit: str, mass_unit: str = "kg") -> None:
+        """The eight settings as the presentation layer writes them (ventset.present.rows.setting_rows)."""
+        for row in setting_rows(plan, reader_units(gas_unit, mass_unit)):
+            self.tiles[row.key].display(row.name, row.value, row.unit, row.detail)
         self.machine.show_plan(plan, gas_unit)
+        self.reflow()
 
 
 class CautionRow(QFrame):
@@ -336,7 +328,7 @@ class CautionRow(QFrame):
         lay.setVerticalSpacing(0)
         self.icon = plain(QLabel(self))
         self.word = _label(self, "", 1.0, bold=True)
-        self.code = _text(self, "", 0.85)
+        self.code = _text(self, "", 0.8)  # small, and shown only where it fits whole (always in the tooltip)
         self.message = _text(self, "", 1.0, wrap=True)
         lay.addWidget(self.icon, 0, 0, 2, 1, Qt.AlignmentFlag.AlignTop)
         head = QHBoxLayout()
@@ -365,9 +357,20 @@ class CautionRow(QFrame):
             self.message.setColour(theme.text)
         if self.code.text() != code:
             self.code.setText(code)
+            self.setToolTip(plain_tip(f"{SEVERITY_WORD.get(severity, severity)} {code}"))
+            self._fit_code()
         if self.message.text() != message:
             self.message.setText(message)
         self.setAccessibleName(f"{SEVERITY_WORD.get(severity, severity)}: {message}")
+
+
+    def _fit_code(self) -> None:
+        room = self.message.width() - self.word.sizeHint().width() - self.layout().horizontalSpacing()
+        self.code.setVisible(self.code.longest_unbroken() + 2 <= room)
+
+    def resizeEvent(self, e) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(e)
+        self._fit_code()
 
 
 class CautionsPanel(QFrame):
@@ -379,8 +382,8 @@ class CautionsPanel(QFrame):
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
         self.title = _label(self, "Cautions", 1.2, bold=True, name="cautions-title")
-        self.summary = _text(self, "", 1.0, name="cautions-summary", align=Qt.AlignmentFlag.AlignRight)
-        _heading_row(outer, self.title, self.summary)
+        self.summary = _text(self, "", 1.0, wrap=True, name="cautions-summary", align=Qt.AlignmentFlag.AlignRight)
+        _heading_row(outer, self.title, self.summary, title_stretch=0)  # one word: never needs to wrap
         self.stale = _label(self, "", 0.95, bold=True, wrap=True, name="cautions-stale")
         self.stale.setVisible(False)
         outer.addWidget(self.stale)
@@ -408,12 +411,18 @@ class CautionsPanel(QFrame):
             self.list.insertWidget(len(self.rows), row)
             self.rows.append(row)
         for row, c in zip(self.rows, cautions, strict=False):
-            row.show_caution(c.severity, c.code, gas_units_in_text(c.message, gas_unit), self.theme)
+            row.show_caution(c.severity, c.code, c.text(reader_units(gas_unit)), self.theme)
             row.setVisible(True)
         for row in self.rows[len(cautions):]:
             row.setVisible(False)
         n = {s: sum(1 for c in cautions if c.severity == s) for s in ("danger", "caution", "info")}
         self.summary.setText(f"{n['danger']} danger · {n['caution']} caution · {n['info']} info")
+
+    def clear(self) -> None:
+        """No plan (a new case): no cautions from an earlier patient."""
+        for row in self.rows:
+            row.setVisible(False)
+        self.summary.setText("")
 
     def set_stale(self, stale: bool) -> None:
         self.stale.setText("⚠ These cautions belong to the last valid plan." if stale else "")
@@ -481,6 +490,7 @@ class DerivedPanel(QScrollArea):
         r = self._row if row is None else row
         n = _label(self.body, name)
         n.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        n.setWordWrap(True)  # after the policy, which would clear its height-for-width
         n.setMinimumWidth(self.fontMetrics().averageCharWidth() * 12)
         v = _text(self.body, "—", 1.0, bold=True, name=f"derived-{key}", align=Qt.AlignmentFlag.AlignRight)
         v.setMinimumWidth(self.fontMetrics().horizontalAdvance("00000.0"))
@@ -505,53 +515,37 @@ class DerivedPanel(QScrollArea):
         if u.text() != unit:
             u.setText(unit)
 
-    def show_plan(self, plan: Plan, gas_unit: str) -> None:
-        m, d, v, p, o, r = (plan.metabolism, plan.dead_space, plan.ventilation, plan.pressures, plan.oxygen,
-                            plan.resolved)
-        s = self._set
-        s("metabolic_rate", fmt(m.metabolic_rate_w), "W (entered)" if m.entered else "W (estimated)")
-        s("vo2", fmt(m.vo2_ml_min), "mL/min")
-        s("vco2", fmt(m.vco2_ml_min), "mL/min")
-        s("rq", fmt(m.rq), "")
-        s("alveolar_ventilation", fmt(v.alveolar_ml_min), "mL/min")
-        s("minute_ventilation", fmt(v.minute_ml_min), "mL/min")
-        s("patient_vt", fmt(v.tidal_volume_ml), "mL")
-        s("vt_per_kg", fmt(v.tidal_volume_ml / r.lean_mass_kg), "mL/kg")
-        s("te", fmt(v.te_s), "s")
-        s("anatomical", fmt(d.anatomical_ml), "mL")
-        while len(self.part_rows) < len(d.parts):
+    def show_plan(self, plan: Plan, gas_unit: str, mass_unit: str = "kg") -> None:
+        """Every derived value as the presentation layer writes it (ventset.present.rows.derived_sections)."""
+        parts: list[Row] = []
+        for _title, rows in derived_sections(plan, reader_units(gas_unit, mass_unit)):
+            for row in rows:
+                if row.key.startswith("part"):
+                    parts.append(row)
+                elif row.key in self.values:
+                    self._set(row.key, row.value, f"{row.unit} ({row.detail})".strip() if row.detail else row.unit)
+        while len(self.part_rows) < len(parts):
             self.part_rows.append(self._value_row(f"part{len(self.part_rows)}", "",
                                                   self._parts_at + len(self.part_rows)))
-        for (n, val, u), part in zip(self.part_rows, d.parts, strict=False):
-            n.setText(f"  {part.name}")
-            n.setToolTip(plain_tip(f"{part.name}: {fmt(part.volume_ml)} mL — {part.source}"))
-            val.setText(fmt(part.volume_ml))
-            u.setText("mL")
+        for (n, val, u), row in zip(self.part_rows, parts, strict=False):
+            n.setText(row.name)
+            n.setToolTip(plain_tip(f"{row.name.strip()}: {row.text} — {row.detail}"))
+            val.setText(row.value)
+            u.setText(row.unit)
             for w in (n, val, u):
                 w.setVisible(True)
-        for row in self.part_rows[len(d.parts):]:
+        for widgets in self.part_rows[len(parts):]:
+            for w in widgets:
+                w.setVisible(False)
+
+    def clear(self) -> None:
+        """No plan (a new case): every value a dash."""
+        for _n, v, u in self.values.values():
+            v.setText("—")
+            u.setText("")
+        for row in self.part_rows:
             for w in row:
                 w.setVisible(False)
-        s("tube", fmt(d.tube_ml), "mL")
-        s("alveolar_ds", fmt(d.alveolar_ml), "mL")
-        share = d.total_ml / v.tidal_volume_ml * 100 if v.tidal_volume_ml > 0 else math.inf
-        s("total_ds", fmt(d.total_ml), f"mL ({fmt(share, 2)} % of VT)")
-        s("plateau", fmt(p.plateau_cmh2o), "cmH2O")
-        s("peak", fmt(p.peak_cmh2o), "cmH2O")
-        s("driving", fmt(p.driving_cmh2o), "cmH2O")
-        s("compliance", fmt(p.compliance_ml_cmh2o), "mL/cmH2O")
-        s("resistance", fmt(p.resistance_cmh2o_l_s), "cmH2O/(L/s)")
-        s("tau", fmt(p.time_constant_s), "s")
-        s("te_tau", fmt(v.te_s / p.time_constant_s, 2), "τ")
-        s("compressed", fmt(p.compressed_ml), f"mL ({fmt(p.compressible_ml_cmh2o)} mL/cmH2O)")
-        for key, mmhg in (("target_paco2", v.target_paco2_mmhg), ("paco2", v.expected_paco2_mmhg),
-                          ("etco2", v.expected_etco2_mmhg), ("gradient", r.gradient_mmhg),
-                          ("pao2", o.pao2_alveolar_mmhg), ("pb", o.barometric_mmhg),
-                          ("ph2o", o.water_vapour_mmhg)):
-            s(key, *gas(mmhg, gas_unit))
-        s("min_o2", fmt(o.min_o2_flow_ml_min), "mL/min")
-        bag = getattr(o, "reservoir_bag_l", 0.0)
-        s("reservoir_bag", fmt(bag) if bag else "—", "L" if bag else "")
 
     def texts(self) -> list[str]:
         return [w.text() for w in self.body.findChildren(QLabel)] + [w.text() for w in self.body.findChildren(Text)]
@@ -573,14 +567,28 @@ class AssumptionsPanel(QTableWidget):
         h.setSectionResizeMode(1, QHeaderView.ResizeMode.Interactive)
         h.setSectionResizeMode(2, QHeaderView.ResizeMode.Stretch)
         fm = self.fontMetrics()
-        self.setColumnWidth(0, fm.horizontalAdvance("Anatomical dead space (unintubated)"))
-        self.setColumnWidth(1, fm.horizontalAdvance("29.3 cmH2O/(L/s)") + fm.height())
+        self._widths = (fm.horizontalAdvance("Anatomical dead space (unintubated)"),
+                        fm.horizontalAdvance("29.3 cmH2O/(L/s)") + fm.height())
+        self.setColumnWidth(0, self._widths[0])
+        self.setColumnWidth(1, self._widths[1])
+        self.setTextElideMode(Qt.TextElideMode.ElideNone)  # cells wrap; nothing is cut to '…'
         self.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
         self._last: tuple = ()
 
-    def show_plan(self, plan: Plan) -> None:
-        rows = tuple((a.name, f"{fmt(a.value) if isinstance(a.value, float) else a.value} {a.unit}".strip(),
-                      a.source) for a in plan.assumptions)
+    def resizeEvent(self, e) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(e)
+        w = self.viewport().width()  # a narrow table shares its width, the source keeping at least 40 %
+        self.setColumnWidth(0, min(self._widths[0], int(w * 0.36)))
+        self.setColumnWidth(1, min(self._widths[1], int(w * 0.24)))
+
+    def clear(self) -> None:
+        """No plan (a new case): no assumptions."""
+        self._last = ()
+        self.setRowCount(0)
+
+    def show_plan(self, plan: Plan, gas_unit: str = "mmHg") -> None:
+        """Every assumption as the presentation layer writes it, gas pressures in the reader's unit."""
+        rows = tuple((r.name, r.value, r.detail) for r in assumption_rows(plan, reader_units(gas_unit)))
         if rows == self._last:
             return
         self._last = rows
@@ -596,10 +604,12 @@ class AssumptionsPanel(QTableWidget):
                     item.setToolTip(plain_tip(text))
 
 
-def first_error_text(errors: list[InputError]) -> str:
+def first_error_text(errors: list[InputError], shown: bool = True) -> str:
+    """'Fix: field — reason', and whether the numbers on screen are from the last valid input (``shown``)."""
     if not errors:
         return ""
     e = errors[0]
     more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
-    return one_line(f"Fix: {e.field} — {e.reason}{more}. The numbers shown are from the last valid input.")
+    tail = " The numbers shown are from the last valid input." if shown else " Nothing is planned until then."
+    return one_line(f"Fix: {e.field} — {e.reason}{more}.{tail}")
 

@@ -46,9 +46,10 @@ class Text(QWidget):
 
     def __init__(self, text: str = "", parent: QWidget | None = None, *, wrap: bool = False,
                  align: Qt.AlignmentFlag = Qt.AlignmentFlag.AlignLeft, name: str = "", lines: int = 1,
-                 markup: bool = False) -> None:
+                 markup: bool = False, keep_whole: bool = False) -> None:
         super().__init__(parent)
         self._markup = markup
+        self._keep_whole = keep_whole  # wrapped: never squeezed below the height the text needs at its width
         self._min_lines = max(1, lines)  # height kept for this many lines: a longer text need not move others
         self._text = ""
         self._plain = ""
@@ -98,6 +99,7 @@ class Text(QWidget):
             self._size_dirty = True  # hidden (e.g. another tab): ask for room when shown, not now
         elif self._needs_new_size(old_plain):
             self.updateGeometry()
+            self._hold_height()
         self.update()
 
     def setColour(self, colour: str | QColor | None, strong: str | QColor | None = None) -> None:  # noqa: N802
@@ -165,6 +167,15 @@ class Text(QWidget):
         layout.endLayout()
         return layout, int(y + 0.999)
 
+    def longest_unbroken(self) -> int:
+        """Width (px) of the longest piece of the text that cannot be broken across lines (a word or number)."""
+        if not self._plain:
+            return 0
+        if not self._wrap:
+            return self.fontMetrics().horizontalAdvance(self._plain)
+        layout, _h = self._make_layout(1)
+        return max(int(layout.lineAt(i).naturalTextWidth() + 0.999) for i in range(layout.lineCount()))
+
     def hasHeightForWidth(self) -> bool:  # noqa: N802 - Qt override
         return self._wrap
 
@@ -202,6 +213,13 @@ class Text(QWidget):
             if h != self._lines_h:
                 self._lines_h = h
                 self.updateGeometry()
+            self._hold_height()
+
+    def _hold_height(self) -> None:
+        if self._keep_whole and self._wrap and self.width() > 0:
+            h = self.heightForWidth(self.width())
+            if h != self.minimumHeight():
+                self.setMinimumHeight(h)
 
     def changeEvent(self, e) -> None:  # noqa: N802 - Qt override; a font change changes the size
         super().changeEvent(e)
@@ -230,26 +248,41 @@ def _pt(x: float, y: float):
 
 
 class Reading(QWidget):
-    """A large number with its unit right beside it on the same baseline (fonts relative to the app font)."""
+    """A large number with its unit right beside it on the same baseline (fonts relative to the app font).
+
+    The number is never cut: when the widget is narrower than the text at its full size, the type shrinks
+    until it fits (``fitted_fonts``); ``width_at(scale)`` tells a panel how wide the reading needs to be.
+    """
+
+    MIN_SCALE = 1.4  # the smallest comfortable number size (× the application font) before a panel reflows
 
     def __init__(self, parent: QWidget | None = None, *, value_scale: float = 2.3, unit_scale: float = 1.15,
                  name: str = "") -> None:
         super().__init__(parent)
-        from ventset.gui.theme import scaled_font
-
         self._value, self._unit = "—", ""
-        self._vf = scaled_font(self.font(), value_scale, bold=True)
-        self._uf = scaled_font(self.font(), unit_scale)
+        self._value_scale, self._unit_scale = value_scale, unit_scale
+        self._vf = self._font(value_scale, True)
+        self._uf = self._font(unit_scale, False)
+        self._fit: tuple | None = None
         self._colour: QColor | None = None
         if name:
             self.setObjectName(name)
         self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Fixed)
 
+    def _font(self, scale: float, bold: bool) -> QFont:
+        from ventset.gui.theme import scaled_font
+
+        return scaled_font(self.font(), scale, bold=bold)
+
     def text(self) -> str:
         return self._value
 
     def value_font(self) -> QFont:
-        return QFont(self._vf)
+        """The font the number is drawn in now (smaller than the full size when the widget is narrow)."""
+        return QFont(self.fitted_fonts()[0])
+
+    def unit_font(self) -> QFont:
+        return QFont(self.fitted_fonts()[1])
 
     def unit(self) -> str:
         return self._unit
@@ -258,8 +291,9 @@ class Reading(QWidget):
         if (value, unit) == (self._value, self._unit):
             return
         self._value, self._unit = value, unit
+        self._fit = None
         self.setAccessibleName(f"{value} {unit}".strip())
-        if self._width() > self.width():
+        if self._width(self._vf, self._uf) > self.width():
             self.updateGeometry()
         self.update()
 
@@ -267,25 +301,54 @@ class Reading(QWidget):
         self._colour = QColor(colour) if colour is not None else None
         self.update()
 
-    def _width(self) -> int:
-        gap = QFontMetrics(self._uf).averageCharWidth() // 2
-        return QFontMetrics(self._vf).horizontalAdvance(self._value) + gap + QFontMetrics(self._uf).horizontalAdvance(
+    def _width(self, vf: QFont, uf: QFont) -> int:
+        gap = QFontMetrics(uf).averageCharWidth() // 2
+        return QFontMetrics(vf).horizontalAdvance(self._value) + gap + QFontMetrics(uf).horizontalAdvance(
             self._unit) + 2
 
+    def width_at(self, scale: float) -> int:
+        """Pixels the reading needs with the number at ``scale`` × the application font (unit at its own size,
+        or smaller in proportion when the number is smaller than the unit's size)."""
+        return self._width(self._font(scale, True), self._font(min(self._unit_scale, scale), False))
+
+    def fitted_fonts(self) -> tuple[QFont, QFont]:
+        """The largest number and unit fonts, down from the full size, whose text fits the widget's width."""
+        key = (self._value, self._unit, self.width(), self.font().key())
+        if self._fit is not None and self._fit[0] == key:
+            return self._fit[1], self._fit[2]
+        vf, uf, scale = self._vf, self._uf, self._value_scale
+        while self._width(vf, uf) > self.width() and scale > 0.55:
+            scale -= 0.05
+            vf, uf = self._font(scale, True), self._font(min(self._unit_scale, scale), False)
+        self._fit = (key, vf, uf)
+        return vf, uf
+
     def sizeHint(self) -> QSize:  # noqa: N802 - Qt override
-        return QSize(self._width(), QFontMetrics(self._vf).height())
+        return QSize(self._width(self._vf, self._uf), QFontMetrics(self._vf).height())
 
     def minimumSizeHint(self) -> QSize:  # noqa: N802 - Qt override
         return QSize(QFontMetrics(self._vf).averageCharWidth() * 3, QFontMetrics(self._vf).height())
 
+    def changeEvent(self, e) -> None:  # noqa: N802 - Qt override; the fonts follow the application font
+        super().changeEvent(e)
+        from PySide6.QtCore import QEvent
+
+        if e.type() == QEvent.Type.FontChange:
+            self._vf = self._font(self._value_scale, True)
+            self._uf = self._font(self._unit_scale, False)
+            self._fit = None
+            self.updateGeometry()
+
     def paintEvent(self, e) -> None:  # noqa: N802 - Qt override
+        vf, uf = self.fitted_fonts()
         p = QPainter(self)
         p.setPen(self._colour if self._colour is not None else self.palette().color(self.foregroundRole()))
-        vfm = QFontMetrics(self._vf)
-        base = vfm.ascent() + max(0, (self.height() - vfm.height()) // 2)
-        p.setFont(self._vf)
+        vfm = QFontMetrics(vf)
+        full = QFontMetrics(self._vf)
+        base = full.ascent() + max(0, (self.height() - full.height()) // 2)
+        p.setFont(vf)
         p.drawText(0, base, self._value)
-        x = vfm.horizontalAdvance(self._value) + QFontMetrics(self._uf).averageCharWidth() // 2
-        p.setFont(self._uf)
+        x = vfm.horizontalAdvance(self._value) + QFontMetrics(uf).averageCharWidth() // 2
+        p.setFont(uf)
         p.drawText(x, base, self._unit)
         p.end()

@@ -36,12 +36,17 @@ from PySide6.QtWidgets import (
 )
 
 from ventset.errors import InputError
+from ventset.evaluate import evaluate, vt_at_patient
+from ventset.gui.record_card import card_parts
+from ventset.gui.record_card import gas_text as _gas
+from ventset.gui.record_card import settings_text as _settings_text
 from ventset.gui.text import esc, plain, plain_tip
-from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours
+from ventset.gui.theme import DAY, Theme, scaled_font, severity_colours
 from ventset.library import Library, load_library
 from ventset.model import Plan, Request
 from ventset.physiology import metabolism
 from ventset.planner import plan
+from ventset.present.quantities import Units, show
 from ventset.textpolicy import check_text
 from ventset.titrate import (
     MEASURED_FIELDS,
@@ -51,8 +56,10 @@ from ventset.titrate import (
     TimelineEntry,
     accept,
     load_titration_data,
+    measurement_at_set,
     parse_measured,
     parse_time,
+    patient_tidal_volume,
     record_measurement,
     settings_in_use,
 )
@@ -61,7 +68,7 @@ from ventset.units import fmt, mmhg_to_kpa
 # key, label, unit shown, placeholder; VT and rate are the settings in use, the rest is what was measured.
 ENTRY_FIELDS = (
     ("time", "Time", "", "now, HH:MM or minutes"),
-    ("tidal-volume", "Tidal volume in use", "mL", "patient receives"),
+    ("tidal-volume", "Tidal volume set", "mL", "on the ventilator (or exhaled, at the machine)"),
     ("rate", "Rate in use", "/min", ""),
     ("etco2", "EtCO2", "gas", ""),
     ("paco2", "PaCO2", "gas", "blood gas"),
@@ -87,16 +94,6 @@ class AppliedSettings:
     time_min: float
 
 
-def _gas(mmhg: float | None, unit: str) -> str:
-    if mmhg is None or not math.isfinite(mmhg):
-        return "—"
-    return f"{fmt(mmhg_to_kpa(mmhg), 3)} kPa" if unit == "kPa" else f"{fmt(mmhg, 3)} mmHg"
-
-
-def _settings_text(s: Settings) -> str:
-    return f"{fmt(s.tidal_volume_ml)} mL at {fmt(s.rate_per_min)}/min"
-
-
 class TimelinePanel(QWidget):
     """Record measurements over the anaesthetic, propose the next settings, keep what was set."""
 
@@ -119,6 +116,7 @@ class TimelinePanel(QWidget):
         self._plan: Plan | None = None
         self._errors: dict[str, str] = {}
         self._autofill: dict[str, str] = {}
+        self._exact: dict[str, float] = {}
         self._shown = -1
         self._build()
         self.refresh()
@@ -173,6 +171,14 @@ class TimelinePanel(QWidget):
             edit.returnPressed.connect(self.record)
             self.edits[key], self.error_labels[key], self.unit_labels[key] = edit, err, unit_lab
             row += 2
+            if key == "tidal-volume":  # what the patient receives of the set volume, as it is typed
+                self.vt_note = plain(QLabel(body))
+                self.vt_note.setObjectName("record-vt-at-patient")
+                self.vt_note.setWordWrap(True)
+                form.addWidget(self.vt_note, row, 1, 1, 2)
+                row += 1
+        for key in ("tidal-volume", "rate"):
+            self.edits[key].textEdited.connect(lambda _t: self._show_patient_volume())
         form.setColumnStretch(1, 1)
         lay.addLayout(form)
 
@@ -226,7 +232,7 @@ class TimelinePanel(QWidget):
         self.own_vt = QLineEdit(self.card)
         self.own_vt.setObjectName("own-tidal-volume")
         self.own_vt.setAccessibleName("Tidal volume set")
-        self.own_vt.setPlaceholderText("mL")
+        self.own_vt.setPlaceholderText("mL set")
         self.own_rate = QLineEdit(self.card)
         self.own_rate.setObjectName("own-rate")
         self.own_rate.setAccessibleName("Rate set")
@@ -279,7 +285,7 @@ class TimelinePanel(QWidget):
             p.hideButtons()
         self.vt_plot.setLabel("bottom", "time", units="min")
         self.rate_plot.setLabel("left", "rate /min")
-        self.vt_plot.setLabel("left", "VT mL")
+        self.vt_plot.setLabel("left", "VT at patient mL")
         self.co2_legend = self.co2_plot.addLegend(offset=(-1, 1))
         self.curves = {
             "target": self.co2_plot.plot(name="target PaCO2"),
@@ -323,18 +329,46 @@ class TimelinePanel(QWidget):
         self._refresh_units()
 
     def _prefill_settings(self) -> None:
+        """Offer the settings in use (the set volume, as dialled) unless the user has typed over them."""
         s = settings_in_use(self._entries)
-        if s is None and self._plan is not None:
-            s = Settings(self._plan.ventilation.tidal_volume_ml, self._plan.ventilation.rate_per_min)
+        v = self._plan.ventilation if self._plan is not None else None
+        if s is None and v is not None:
+            s = Settings(v.tidal_volume_ml, v.rate_per_min, v.set_tidal_volume_ml)
         if s is None:
             return
-        for key, value in (("tidal-volume", s.tidal_volume_ml), ("rate", s.rate_per_min)):
+        for key, value in (("tidal-volume", self._set_volume(s)), ("rate", s.rate_per_min)):
             edit = self.edits[key]
             text = fmt(value, 4)
             if not edit.text().strip() or edit.text() == self._autofill.get(key):  # never over the user's typing
                 edit.setText(text)
                 self._autofill[key] = text
+                self._exact[key] = value  # the value behind the rounded text, used while it is not edited
                 self._clear_mark(key)
+        self._show_patient_volume()
+
+    def _set_volume(self, s: Settings) -> float:
+        """The volume to dial for ``s``: as recorded, else what the model sets for the patient's volume."""
+        if s.set_tidal_volume_ml is not None:
+            return s.set_tidal_volume_ml
+        subject = self._plan.subject if self._plan is not None else None
+        return evaluate(subject, s.tidal_volume_ml, s.rate_per_min).set_vt_ml if subject else s.tidal_volume_ml
+
+    def _show_patient_volume(self) -> None:
+        """Under the set volume: what the patient receives of it through the circuit's compression."""
+        subject = self._plan.subject if self._plan is not None else None
+        try:
+            set_vt = parse_measured("tidal-volume", self.edits["tidal-volume"].text())
+            rate = parse_measured("rate", self.edits["rate"].text())
+        except InputError:
+            set_vt = rate = None
+        if subject is None or set_vt is None or rate is None:
+            self.vt_note.setText("")
+            self.vt_note.setVisible(False)
+            return
+        vt = vt_at_patient(subject, set_vt, rate)
+        self.vt_note.setText(f"= {show(vt, 'volume')} at the patient ({show(set_vt - vt, 'volume')} taken by the "
+                             "circuit's compression)" if set_vt - vt >= 0.05 else "= the same at the patient")
+        self.vt_note.setVisible(True)
 
     def _parse_form(self) -> tuple[Measurement | None, dict[str, str]]:
         errors: dict[str, str] = {}
@@ -347,6 +381,9 @@ class TimelinePanel(QWidget):
                 values[key] = None
                 if key in ("tidal-volume", "rate"):
                     errors[key] = "is needed: the setting in use now"
+                continue
+            if key in self._exact and text == self._autofill.get(key):
+                values[key] = self._exact[key]
                 continue
             try:
                 values[key] = parse_measured(key, text)
@@ -369,7 +406,8 @@ class TimelinePanel(QWidget):
         if errors:
             return None, errors
         return Measurement(time_min, values["tidal-volume"], values["rate"], values["paco2"], values["etco2"],
-                           values["pao2"], values["spo2"], values["fio2"], clock, note), {}
+                           values["pao2"], values["spo2"], values["fio2"], clock, note,
+                           set_tidal_volume_ml=values["tidal-volume"]), {}
 
     def record(self) -> bool:
         """Read the entry fields, add the measurement and its proposal to the record. False if invalid."""
@@ -383,6 +421,7 @@ class TimelinePanel(QWidget):
                              "the values stay here.", "caution")
             return False
         try:
+            m = measurement_at_set(request, m, self.library)  # the set volume → the patient's
             entries = record_measurement(self._entries, request, m, self.prefer.currentData(), self.library)
         except InputError as err:
             key = err.key if err.key in self.edits else None
@@ -428,10 +467,12 @@ class TimelinePanel(QWidget):
                     f"({fmt(e.vco2_ml_min)} mL/min, metabolic rate {fmt(power)} W).")
         msg += " The window's plan now shows exactly these settings and what they are expected to give."
         self._set_status(msg, "info")
-        for key, value in (("tidal-volume", s.tidal_volume_ml), ("rate", s.rate_per_min)):
+        for key, value in (("tidal-volume", self._set_volume(s)), ("rate", s.rate_per_min)):
             self.edits[key].setText(fmt(value, 4))
             self._autofill[key] = self.edits[key].text()
+            self._exact[key] = value
             self._clear_mark(key)
+        self._show_patient_volume()
         self.refresh()
         self.record_changed.emit(self._entries)
         if self._apply is not None:
@@ -464,7 +505,13 @@ class TimelinePanel(QWidget):
             self._set_status("Not set: the tidal volume and rate to set are marked; the values stay there.",
                              "caution")
             return
-        if self.accept_latest("own", Settings(vt, rate)):
+        request = self._get_request()
+        try:  # typed as dialled: the patient receives the set volume less the circuit's compression
+            at_patient = patient_tidal_volume(request, vt, rate, self.library) if request is not None else vt
+        except InputError as err:
+            self._set_status(f"Not set: {err}", "caution")
+            return
+        if self.accept_latest("own", Settings(at_patient, rate, vt)):
             self.own_vt.clear()
             self.own_rate.clear()
 
@@ -574,30 +621,7 @@ class TimelinePanel(QWidget):
         unit, t = self._gas_unit(), self.theme
         self.card_title.setText(f"Proposal from the measurement at {self._time_text(e.measurement)}"
                                 + ("" if latest else " (earlier entry)"))
-        parts: list[str] = []
-        if e.proposal is None:
-            parts.append(esc(e.error or "No proposal."))
-        else:
-            p = e.proposal
-            parts.append(f"<b>Next: {fmt(p.tidal_volume_ml)} mL (set {fmt(p.set_tidal_volume_ml)} mL) at "
-                         f"{fmt(p.rate_per_min)}/min</b> → PaCO2 {_gas(p.expected_paco2_mmhg, unit)}, "
-                         f"EtCO2 {_gas(p.expected_etco2_mmhg, unit)}; plateau {fmt(p.plateau_cmh2o)} cmH2O, "
-                         f"peak {fmt(p.peak_cmh2o)} cmH2O" + ("" if p.reached else " — <b>target not reached</b>"))
-            if e.partial_step:
-                q = e.partial_step
-                parts.append(f"<b>Part-way: {fmt(q.tidal_volume_ml)} mL at {fmt(q.rate_per_min)}/min</b> "
-                             f"({fmt(q.fraction_of_change * 100, 2)} % of the change) → PaCO2 "
-                             f"{_gas(q.expected_paco2_mmhg, unit)}; then re-measure.")
-            if e.vco2_ml_min:
-                parts.append(f"CO2 output from the measurement: {fmt(e.vco2_ml_min)} mL/min.")
-        if e.rationale:
-            parts.append("<br>".join(esc(line) for line in e.rationale))
-        for c in e.cautions:
-            fg, _bg = severity_colours(t, c.severity)
-            parts.append(f"<span style='color:{esc(fg)}'><b>{esc(SEVERITY_WORD[c.severity])}</b></span> "
-                         f"{esc(c.message)}")
-        if e.settings_set:
-            parts.append(f"<b>Set:</b> {_settings_text(e.settings_set)} ({e.accepted.replace('_', '-')}).")
+        parts = self._card_parts(e, Units(gas=unit), t)
         self.proposal_text.setText("<br><br>".join(parts))
         can = latest and e.proposal is not None
         self.set_full.setEnabled(can)
@@ -605,6 +629,12 @@ class TimelinePanel(QWidget):
         self.set_partial.setVisible(e.partial_step is not None)
         for w in (self.set_own, self.own_vt, self.own_rate):
             w.setEnabled(latest)
+
+    def _card_parts(self, e: TimelineEntry, units: Units, t: Theme) -> list[str]:
+        request = self._get_request()
+        key = self._plan.resolved.species if self._plan is not None else request.patient.species if request else ""
+        sp = self.library.find_species(key) if key else None
+        return card_parts(e, units, t, {n.code for n in sp.notes} if sp is not None else set())
 
     def _draw_plots(self) -> None:
         unit = self._gas_unit()

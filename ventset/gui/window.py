@@ -16,7 +16,6 @@ from PySide6.QtGui import QAction, QActionGroup, QGuiApplication, QKeySequence, 
 from PySide6.QtWidgets import (
     QApplication,
     QDockWidget,
-    QHBoxLayout,
     QMainWindow,
     QMenu,
     QScrollArea,
@@ -32,7 +31,8 @@ from ventset.gui import formstate as fs
 from ventset.gui import settings as prefs
 from ventset.gui.controller import PlanController
 from ventset.gui.form import InputForm
-from ventset.gui.plots import BreathPlot, SensitivityPlot, SettingsMapPlot, WaveformPlot
+from ventset.gui.geometry import DEFAULT_SIZE, FitColumn, clamp_to_screen, first_size  # noqa: F401 (DEFAULT_SIZE re-exported)
+from ventset.gui.plots import BreathPlot, PlotPage, SensitivityPlot, SettingsMapPlot, WaveformPlot
 from ventset.gui.readouts import (
     AssumptionsPanel,
     CautionsPanel,
@@ -41,13 +41,12 @@ from ventset.gui.readouts import (
     SettingsPanel,
     StatusStrip,
     first_error_text,
+    reader_units,
 )
 from ventset.gui.theme import THEMES, Theme, apply_theme
 from ventset.library import Library, load_library
 from ventset.model import Plan, Request
 from ventset.report import plan_to_text
-
-DEFAULT_SIZE = (1400, 900)
 
 # Panels added by other modules: each defines install(window), called by ventset.gui.app.run() after the
 # window is built (a failing panel is reported on stderr and the planning window still opens).
@@ -143,13 +142,21 @@ class MainWindow(QMainWindow):
         form_scroll = QScrollArea(self.splitter)
         form_scroll.setObjectName("form-scroll")
         form_scroll.setWidgetResizable(True)
-        form_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        # The form scrolls sideways only when the window is too narrow for it (a small screen at 2×).
+        form_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
         form_scroll.setWidget(self.form)
-        form_scroll.setMinimumWidth(self.form.minimumSizeHint().width() + 24)
+        self.form_width = self.form.minimumSizeHint().width() + 24
+        form_scroll.setMinimumWidth(min(self.form_width, self.fontMetrics().averageCharWidth() * 34))
         self.form_scroll = form_scroll
 
-        middle = QWidget(self.splitter)
-        mid = QVBoxLayout(middle)
+        middle_scroll = QScrollArea(self.splitter)  # scrolls only when the window is too low for the tiles
+        middle_scroll.setObjectName("middle-scroll")
+        middle_scroll.setWidgetResizable(True)
+        middle_scroll.setFrameShape(QScrollArea.Shape.NoFrame)
+        middle_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        middle = FitColumn(middle_scroll)
+        middle_scroll.setWidget(middle)
+        mid = middle.layout()
         mid.setContentsMargins(0, 0, 0, 0)
         mid.setSpacing(m)
         self.settings_panel = SettingsPanel(middle)
@@ -157,23 +164,16 @@ class MainWindow(QMainWindow):
         self.tabs = QTabWidget(middle)
         self.tabs.setObjectName("detail-tabs")
         self.tabs.setDocumentMode(True)
-        plots = QWidget(self.tabs)
-        row = QHBoxLayout(plots)
-        row.setContentsMargins(0, m, 0, 0)
-        row.setSpacing(m)
-        left_col, right_col = QVBoxLayout(), QVBoxLayout()
-        left_col.setSpacing(m)
-        right_col.setSpacing(m)
+        plots = PlotPage(self.tabs, m)
+        self.plot_columns = plots.columns
         self.breath_plot = BreathPlot(plots)
         self.map_plot = SettingsMapPlot(plots)
         self.wave_plot = WaveformPlot(plots)
         self.sens_plot = SensitivityPlot(plots)
-        left_col.addWidget(self.breath_plot, 40)
-        left_col.addWidget(self.map_plot, 60)
-        right_col.addWidget(self.wave_plot, 58)
-        right_col.addWidget(self.sens_plot, 42)
-        row.addLayout(left_col, 1)
-        row.addLayout(right_col, 1)
+        plots.add(0, self.breath_plot, 40)
+        plots.add(0, self.map_plot, 60)
+        plots.add(1, self.wave_plot, 58)
+        plots.add(1, self.sens_plot, 42)
         self.plots_page = plots
         self.plot_cards = (self.breath_plot, self.map_plot, self.wave_plot, self.sens_plot)
         for card in self.plot_cards:
@@ -181,7 +181,6 @@ class MainWindow(QMainWindow):
         self.derived = DerivedPanel(self.tabs)
         self.assumptions = AssumptionsPanel(self.tabs)
         # With large system fonts or a small window the plots scroll rather than squash into illegibility.
-        plots.setMinimumHeight(self.fontMetrics().lineSpacing() * 34)
         plots_scroll = QScrollArea(self.tabs)
         plots_scroll.setObjectName("plots-scroll")
         plots_scroll.setWidgetResizable(True)
@@ -192,6 +191,8 @@ class MainWindow(QMainWindow):
         self.tabs.addTab(self.derived, "Derived values")
         self.tabs.addTab(self.assumptions, "Assumptions and sources")
         mid.addWidget(self.tabs, 1)
+        bar = self.style().pixelMetric(self.style().PixelMetric.PM_ScrollBarExtent)
+        middle_scroll.setMinimumWidth(middle.minimumSizeHint().width() + bar)  # never narrower than its content
 
         self.cautions = CautionsPanel(self.splitter)
         self.splitter.setStretchFactor(0, 0)
@@ -204,7 +205,7 @@ class MainWindow(QMainWindow):
         bar = self.menuBar()
         case = self.menu("&Case")
         self.act_demo = QAction("Load the demo patient", self)
-        self.act_demo.triggered.connect(lambda: self.controller.set_request(demo_request(self.library)))
+        self.act_demo.triggered.connect(self.load_demo)
         case.addAction(self.act_demo)
         self.act_copy = QAction("Copy plan as text", self)
         self.act_copy.setShortcut(QKeySequence("Ctrl+Shift+C"))
@@ -318,36 +319,44 @@ class MainWindow(QMainWindow):
 
     # ------------------------------------------------------------------ plan → views
     def _show_plan(self, plan: Plan) -> None:
-        gas = self.form.gas_unit()
-        self.status.show_plan(plan, gas, self.form.state[fs.UNIT + "mass"])
+        gas, mass = self.form.gas_unit(), self.form.state[fs.UNIT + "mass"]
+        self.status.show_plan(plan, gas, mass)
         self.status.set_current(True)
-        self.settings_panel.show_plan(plan, gas)
+        self.settings_panel.show_plan(plan, gas, mass)
         self.settings_panel.set_stale(False)
         self.cautions.show_plan(plan, gas)
         self.cautions.set_stale(False)
-        self.derived.show_plan(plan, gas)
-        self.assumptions.show_plan(plan)
+        self.derived.show_plan(plan, gas, mass)
+        self.assumptions.show_plan(plan, gas)
         self.breath_plot.show_plan(plan)
         self.map_plot.show_plan(plan, gas)
         self.wave_plot.show_plan(plan)
         self.sens_plot.show_plan(plan, gas)
         for card in self.plot_cards:
             card.set_stale(False)
+        if not any(card.isVisibleTo(self.plots_page) for card in self.plot_cards):  # after a new case
+            self._enlarge(next((c for c in self.plot_cards if c.zoom.isChecked()), None))
         name = plan.request.patient.name
         self.setWindowTitle(f"ventset — {name or plan.resolved.species_label}")
 
     def _show_invalid(self, errors: list[InputError]) -> None:
         key = fs.error_key(errors[0]) if errors else ""
-        self.status.set_current(False, first_error_text(errors), key or "")
+        blank = self.controller.plan is None  # a new case: nothing of an earlier patient stays on screen
+        self.status.set_current(False, first_error_text(errors, not blank), key or "")
         self.settings_panel.set_stale(True)
-        self.cautions.set_stale(True)
+        self.cautions.set_stale(not blank)
         for card in self.plot_cards:
             card.set_stale(True)
+        if blank:
+            for panel in (self.status, self.settings_panel, self.cautions, self.derived, self.assumptions):
+                panel.clear()
+            for card in self.plot_cards:
+                card.setVisible(False)
 
     def _enlarge(self, card) -> None:
-        """Show one plot alone (card), or all four (None)."""
+        """Show one plot alone over the whole plot area (card), or all four (None)."""
+        self.plots_page.enlarge(card)
         for c in self.plot_cards:
-            c.setVisible(card is None or c is card)
             if c is not card and c.zoom.isChecked():
                 c.zoom.blockSignals(True)
                 c.zoom.setChecked(False)
@@ -369,6 +378,14 @@ class MainWindow(QMainWindow):
             if key not in fs.GAS_FIELDS:
                 self.settings.setValue(f"units/{key}", unit)
         self.settings.setValue("units/gas", self.form.gas_unit())
+
+    def load_demo(self) -> bool:
+        """Show the demo patient as a new, unsaved case (asking first when work would be lost)."""
+        manager = getattr(self, "case_manager", None)
+        if manager is not None:
+            return manager.new_case(demo_request(self.library))
+        self.controller.set_request(demo_request(self.library))
+        return True
 
     def _find_species(self) -> None:
         self.form.species.setFocus()
@@ -392,7 +409,7 @@ class MainWindow(QMainWindow):
             w.set_theme(theme)
         if self.controller.plan is not None:
             plan = self.controller.plan
-            self.cautions.show_plan(plan)
+            self.cautions.show_plan(plan, self.form.gas_unit())
             if self.controller.stale:
                 self._show_invalid(self.controller.errors)
         if key in getattr(self, "theme_actions", {}):
@@ -405,7 +422,7 @@ class MainWindow(QMainWindow):
         plan = self.controller.plan
         if plan is None:
             return ""
-        text = plan_to_text(plan, self.form.gas_unit())
+        text = plan_to_text(plan, reader_units(self.form.gas_unit(), self.form.state[fs.UNIT + "mass"]))
         if self.controller.stale:
             text = "NOT CURRENT — " + first_error_text(self.controller.errors) + "\n\n" + text
         QGuiApplication.clipboard().setText(text)
@@ -419,12 +436,13 @@ class MainWindow(QMainWindow):
     def _restore(self) -> None:
         geo = self.settings.value("window/geometry")
         if isinstance(geo, QByteArray | bytes) and self.restoreGeometry(QByteArray(geo)):
-            pass
+            clamp_to_screen(self)  # remembered on another screen or at another scale
         else:
-            self.resize(*DEFAULT_SIZE)
+            self.resize(*first_size(self))
             w = self.width()
-            side = max(self.fontMetrics().averageCharWidth() * 44, int(w * 0.24))
-            self.splitter.setSizes([side, w - 2 * side, side])
+            form = min(self.form_width, int(w * 0.4))
+            side = max(self.fontMetrics().averageCharWidth() * 30, int(w * 0.22))
+            self.splitter.setSizes([form, w - form - side, side])
         for name, splitter in (("window/splitter", self.splitter),):
             state = self.settings.value(name)
             if isinstance(state, QByteArray | bytes):
@@ -435,6 +453,12 @@ class MainWindow(QMainWindow):
         from ventset.gui import access
 
         return access.move_focus(self, next) or super().focusNextPrevChild(next)
+
+    def showEvent(self, event) -> None:  # noqa: N802 - Qt override
+        super().showEvent(event)
+        if not getattr(self, "_placed", False):  # the frame is known once shown: keep all of it on screen
+            self._placed = True
+            clamp_to_screen(self)
 
     def closeEvent(self, event) -> None:  # noqa: N802 - Qt override
         self.settings.setValue("window/geometry", self.saveGeometry())

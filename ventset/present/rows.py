@@ -161,8 +161,12 @@ def mass_text(kg: float, units: Units = MMHG) -> str:
 
 
 def species_text(plan: Plan) -> str:
-    """The species as the plan used it (a custom species names its base)."""
-    return one_line(plan.resolved.species_label)
+    """The species as the plan used it (a custom species names its base: 'Fennec fox (values from Cat)')."""
+    label = plan.resolved.species_label
+    custom = (getattr(plan.request.patient, "custom_species", "") or "").strip()
+    if custom and custom.lower() not in label.lower():
+        label = f"{custom} (values from {label})"
+    return one_line(label)
 
 
 def patient_line(plan: Plan, units: Units = MMHG) -> str:

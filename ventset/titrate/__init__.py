@@ -28,13 +28,16 @@ from ventset.titrate.record import (
     timeline_to_dict,
     validate_measurement,
 )
-from ventset.titrate.timeline import accept, record_measurement
+from ventset.titrate.rules import NOT_AS_CHOSEN, preference_kept, preference_reason
+from ventset.titrate.timeline import accept, measurement_at_set, patient_tidal_volume, record_measurement
 
 __all__ = [
-    "ACCEPTED", "MEASURED_FIELDS", "PREFERENCES", "PREFERENCE_LABELS", "TIMELINE_SCHEMA", "TIMELINE_VERSION",
+    "ACCEPTED", "MEASURED_FIELDS", "NOT_AS_CHOSEN", "PREFERENCES", "PREFERENCE_LABELS", "TIMELINE_SCHEMA",
+    "TIMELINE_VERSION",
     "Adjustment", "Band", "DeadSpaceMeasurement", "InUseDeadSpace", "Measurement", "Oxygenation", "Proposal",
     "Settings", "TimelineEntry", "TitrationData", "accept", "adjust", "adjustment_to_dict", "adjustment_to_text",
     "anatomical_estimate_ml", "check_measured", "dead_space_to_dict", "dead_space_to_text", "load_titration_data",
-    "measured_dead_space", "oxygenation", "parse_measured", "parse_time", "record_measurement", "settings_in_use",
+    "measured_dead_space", "measurement_at_set", "oxygenation", "parse_measured", "parse_time", "patient_tidal_volume",
+    "preference_kept", "preference_reason", "record_measurement", "settings_in_use",
     "spo2_cautions", "timeline_from_dict", "timeline_to_dict", "validate_measurement",
 ]

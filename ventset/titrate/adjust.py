@@ -25,15 +25,14 @@ from ventset.titrate.data import load_titration_data
 from ventset.titrate.fields import MEASURED_FIELDS
 from ventset.titrate.oxygenation import Oxygenation, oxygenation
 from ventset.titrate.record import Measurement, Proposal, validate_measurement
-from ventset.titrate.rules import AdjustContext, adjustment_cautions, rationale
+from ventset.titrate.rules import (  # noqa: F401 (the preferences are re-exported here)
+    PREFERENCE_LABELS,
+    PREFERENCES,
+    AdjustContext,
+    adjustment_cautions,
+    rationale,
+)
 from ventset.units import fmt
-
-PREFERENCES = ("rate", "tidal_volume", "both")
-PREFERENCE_LABELS = {
-    "rate": "keep the tidal volume, change the rate",
-    "tidal_volume": "keep the rate, change the tidal volume",
-    "both": "share the change between rate and tidal volume",
-}
 
 
 @dataclass(frozen=True)

@@ -26,23 +26,31 @@ def _finite_or_none(x: float) -> float | None:
 
 @dataclass(frozen=True)
 class Settings:
-    """Ventilator settings in use: tidal volume the patient receives (mL) and rate (/min)."""
+    """Ventilator settings in use: tidal volume the patient receives (mL), rate (/min), and the volume set on
+    the ventilator (mL; the patient's volume plus what the circuit compresses), None in records from before it
+    was kept."""
 
     tidal_volume_ml: float
     rate_per_min: float
+    set_tidal_volume_ml: float | None = None
 
     def to_dict(self) -> dict:
-        return {"tidal_volume_ml": self.tidal_volume_ml, "rate_per_min": self.rate_per_min}
+        d = {"tidal_volume_ml": self.tidal_volume_ml, "rate_per_min": self.rate_per_min}
+        if self.set_tidal_volume_ml is not None:
+            d["set_tidal_volume_ml"] = self.set_tidal_volume_ml
+        return d
 
     @classmethod
     def from_dict(cls, d: dict) -> Settings:
-        return cls(float(d["tidal_volume_ml"]), float(d["rate_per_min"]))
+        return cls(float(d["tidal_volume_ml"]), float(d["rate_per_min"]), _opt(d.get("set_tidal_volume_ml")))
 
 
 @dataclass(frozen=True)
 class Measurement:
     """One row of the anaesthetic record: when, the settings in use, and what was measured.
 
+    ``tidal_volume_ml`` is the volume the patient receives; ``set_tidal_volume_ml`` the volume set on the
+    ventilator (or measured at the machine) it was converted from, None when not known.
     Gas pressures in mmHg, SpO2 in %, FiO2 as a fraction; ``None`` means not measured.
     """
 
@@ -56,30 +64,34 @@ class Measurement:
     fio2: float | None = None
     clock: str = ""
     note: str = ""
+    set_tidal_volume_ml: float | None = None
 
     @property
     def settings(self) -> Settings:
-        return Settings(self.tidal_volume_ml, self.rate_per_min)
+        return Settings(self.tidal_volume_ml, self.rate_per_min, self.set_tidal_volume_ml)
 
     def to_dict(self) -> dict:
-        return {"time_min": self.time_min, "clock": self.clock, "tidal_volume_ml": self.tidal_volume_ml,
-                "rate_per_min": self.rate_per_min, "paco2_mmhg": self.paco2_mmhg, "etco2_mmhg": self.etco2_mmhg,
-                "pao2_mmhg": self.pao2_mmhg, "spo2_percent": self.spo2_percent, "fio2": self.fio2,
-                "note": self.note}
+        d = {"time_min": self.time_min, "clock": self.clock, "tidal_volume_ml": self.tidal_volume_ml,
+             "rate_per_min": self.rate_per_min, "paco2_mmhg": self.paco2_mmhg, "etco2_mmhg": self.etco2_mmhg,
+             "pao2_mmhg": self.pao2_mmhg, "spo2_percent": self.spo2_percent, "fio2": self.fio2,
+             "note": self.note}
+        if self.set_tidal_volume_ml is not None:
+            d["set_tidal_volume_ml"] = self.set_tidal_volume_ml
+        return d
 
     @classmethod
     def from_dict(cls, d: dict) -> Measurement:
         return cls(float(d["time_min"]), float(d["tidal_volume_ml"]), float(d["rate_per_min"]),
                    _opt(d.get("paco2_mmhg")), _opt(d.get("etco2_mmhg")), _opt(d.get("pao2_mmhg")),
                    _opt(d.get("spo2_percent")), _opt(d.get("fio2")), str(d.get("clock") or ""),
-                   str(d.get("note") or ""))
+                   str(d.get("note") or ""), _opt(d.get("set_tidal_volume_ml")))
 
 
 def validate_measurement(m: Measurement) -> None:
     """Check every number of a measurement against its hard limits; raises InputError naming the field."""
     for key, value in (("time", m.time_min), ("tidal-volume", m.tidal_volume_ml), ("rate", m.rate_per_min),
                        ("paco2", m.paco2_mmhg), ("etco2", m.etco2_mmhg), ("pao2", m.pao2_mmhg),
-                       ("spo2", m.spo2_percent), ("fio2", m.fio2)):
+                       ("spo2", m.spo2_percent), ("fio2", m.fio2), ("tidal-volume", m.set_tidal_volume_ml)):
         check_measured(key, value)
 
 
@@ -111,7 +123,7 @@ class Proposal:
 
     @property
     def settings(self) -> Settings:
-        return Settings(self.tidal_volume_ml, self.rate_per_min)
+        return Settings(self.tidal_volume_ml, self.rate_per_min, self.set_tidal_volume_ml)
 
     def to_dict(self) -> dict:
         d = {k: getattr(self, k) for k in self.__dataclass_fields__}

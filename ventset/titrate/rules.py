@@ -21,6 +21,12 @@ from ventset.titrate.record import Measurement
 if TYPE_CHECKING:
     from ventset.titrate.adjust import Reading, Steps
 
+PREFERENCES = ("rate", "tidal_volume", "both")
+PREFERENCE_LABELS = {
+    "rate": "keep the tidal volume, change the rate",
+    "tidal_volume": "keep the rate, change the tidal volume",
+    "both": "share the change between rate and tidal volume",
+}
 _ONLY = {"rate": "Changing only the rate", "tidal_volume": "Changing only the tidal volume",
          "both": "Sharing the change between rate and tidal volume"}
 _IN_USE_WORDS = {"vt_min": "the tidal volume in use (below the species' usual range)",
@@ -184,14 +190,14 @@ def large_step(x: AdjustContext) -> list[Caution]:
     q = st.partial
     return [caution("caution", "LARGE_STEP",
                     "The full proposal changes alveolar ventilation by {change_percent}. When not urgent, change it by "
-                    "no more than about {step_percent} per step ({source}): the part-way step, {vt_ml} at "
-                    "{rate_per_min}, is expected to give PaCO2 {expected_mmhg}. Re-measure EtCO2 after {lo_min}–"
-                    "{hi_min}, a blood gas after {gas_min} or more ({gas_source}).",
+                    "no more than about {step_percent} per step ({source}): the part-way step, set {set_ml} ({vt_ml} "
+                    "at the patient) at {rate_per_min}, is expected to give PaCO2 {expected_mmhg}. Re-measure EtCO2 "
+                    "after {lo_min}–{hi_min}, a blood gas after {gas_min} or more ({gas_source}).",
                     {"source": st.max_step.source, "gas_source": x.source("remeasure_blood_gas_min")},
                     change_percent=st.proposal.ventilation_change * 100, step_percent=st.max_step.value * 100,
-                    vt_ml=q.tidal_volume_ml, rate_per_min=q.rate_per_min, expected_mmhg=q.expected_paco2_mmhg,
-                    lo_min=x.th("remeasure_etco2_min"), hi_min=x.th("remeasure_etco2_max_min"),
-                    gas_min=x.th("remeasure_blood_gas_min"))]
+                    set_ml=q.set_tidal_volume_ml, vt_ml=q.tidal_volume_ml, rate_per_min=q.rate_per_min,
+                    expected_mmhg=q.expected_paco2_mmhg, lo_min=x.th("remeasure_etco2_min"),
+                    hi_min=x.th("remeasure_etco2_max_min"), gas_min=x.th("remeasure_blood_gas_min"))]
 
 
 def at_the_proposal(x: AdjustContext) -> list[Caution]:
@@ -222,15 +228,47 @@ def adjustment_cautions(x: AdjustContext) -> tuple[Caution, ...]:
     return sort_cautions([c for rule in RULES for c in rule(x)])
 
 
+# A rationale line that starts with this says why the change chosen ("keep the tidal volume …") was not kept.
+NOT_AS_CHOSEN = "Not as chosen"
+_KEPT = {"rate": ("rate", "none"), "tidal_volume": ("tidal_volume", "none"), "both": ("rate", "tidal_volume", "both",
+                                                                                     "none")}
+_CHANGED_WORDS = {"rate": "the rate", "tidal_volume": "the tidal volume", "both": "both the tidal volume and the rate"}
+
+
+def set_in_use_ml(x: AdjustContext) -> float:
+    """The volume set on the ventilator for the settings in use: as entered, else the model's for that patient
+    volume (the patient's volume plus the circuit's compression)."""
+    m = x.measurement
+    return m.set_tidal_volume_ml if m.set_tidal_volume_ml is not None else x.reading.in_use.set_vt_ml
+
+
+def preference_kept(prefer: str, changed: str) -> bool:
+    """True when a proposal that changed ``changed`` keeps the clinician's choice ``prefer``."""
+    return changed in _KEPT.get(prefer, ())
+
+
+def _not_as_chosen(x: AdjustContext) -> Phrase | None:
+    st, p = x.steps, x.steps.proposal
+    if preference_kept(x.prefer, p.changed):
+        return None
+    why = limit_words(st.full.binding, st.moved) or "the limits"
+    return phrase(NOT_AS_CHOSEN + " ({chosen}): changing only " + ("the rate" if x.prefer == "rate" else
+                  "the tidal volume") + " would go past {limits}, so the proposal changes {changed}.",
+                  {"chosen": PREFERENCE_LABELS[x.prefer], "limits": why, "changed": _CHANGED_WORDS[p.changed]})
+
+
 def _move(x: AdjustContext) -> Phrase:
     m, p = x.measurement, x.steps.proposal
-    templates = {"rate": "rate {f0_per_min} → {f1_per_min} at the same tidal volume",
-                 "tidal_volume": "tidal volume {vt0_ml} → {vt1_ml} at the same rate",
-                 "both": "tidal volume {vt0_ml} → {vt1_ml} and rate {f0_per_min} → {f1_per_min}",
+    templates = {"rate": "rate {f0_per_min} → {f1_per_min} at the same tidal volume (set {set1_ml})",
+                 "tidal_volume": "set tidal volume {set0_ml} → {set1_ml} ({vt0_ml} → {vt1_ml} at the patient) at "
+                                 "the same rate",
+                 "both": "set tidal volume {set0_ml} → {set1_ml} ({vt0_ml} → {vt1_ml} at the patient) and rate "
+                         "{f0_per_min} → {f1_per_min}",
                  "none": "the settings in use"}
     return phrase("Proposal: " + templates[p.changed] + "; expected PaCO2 {expected_mmhg}, plateau {plateau_cmh2o}.",
                   f0_per_min=m.rate_per_min, f1_per_min=p.rate_per_min, vt0_ml=m.tidal_volume_ml,
-                  vt1_ml=p.tidal_volume_ml, expected_mmhg=p.expected_paco2_mmhg, plateau_cmh2o=p.plateau_cmh2o)
+                  vt1_ml=p.tidal_volume_ml, set0_ml=set_in_use_ml(x), set1_ml=p.set_tidal_volume_ml,
+                  expected_mmhg=p.expected_paco2_mmhg, plateau_cmh2o=p.plateau_cmh2o)
 
 
 def rationale(x: AdjustContext) -> tuple[Phrase, ...]:
@@ -241,10 +279,11 @@ def rationale(x: AdjustContext) -> tuple[Phrase, ...]:
     assert s is not None
     ev = r.in_use
     why = [
-        phrase("At {vt_ml} and {rate_per_min} the model's alveolar ventilation is {va_ml_min} (dead space "
-               "{total_ml} of each breath: anatomical {anatomical_ml}, apparatus and tube {apparatus_ml}, alveolar "
-               "{alveolar_ml}).",
-               vt_ml=m.tidal_volume_ml, rate_per_min=m.rate_per_min, va_ml_min=ev.alveolar_ml_min,
+        phrase("At set {set_ml} ({vt_ml} at the patient) and {rate_per_min} the model's alveolar ventilation is "
+               "{va_ml_min} (dead space {total_ml} of each breath: anatomical {anatomical_ml}, apparatus and tube "
+               "{apparatus_ml}, alveolar {alveolar_ml}).",
+               set_ml=set_in_use_ml(x), vt_ml=m.tidal_volume_ml, rate_per_min=m.rate_per_min,
+               va_ml_min=ev.alveolar_ml_min,
                total_ml=s.vd_fixed_ml + s.alveolar_fraction * m.tidal_volume_ml, anatomical_ml=d.anatomical_ml,
                apparatus_ml=d.apparatus_ml + d.tube_ml, alveolar_ml=s.alveolar_fraction * m.tidal_volume_ml),
         phrase("PaCO2 {paco2_mmhg} ({source}) means a CO2 output of {vco2_ml_min} (plan estimate {estimate_ml_min}).",
@@ -263,10 +302,17 @@ def rationale(x: AdjustContext) -> tuple[Phrase, ...]:
         why.append(_move(x))
         if st.large:
             q = st.partial
-            why.append(phrase("Part-way ({share_percent} of the change): {vt_ml} at {rate_per_min}, expected PaCO2 "
-                              "{expected_mmhg}; then re-measure.", share_percent=q.fraction_of_change * 100,
+            why.append(phrase("Part-way ({share_percent} of the change): set {set_ml} ({vt_ml} at the patient) at "
+                              "{rate_per_min}, expected PaCO2 {expected_mmhg}; then re-measure.",
+                              share_percent=q.fraction_of_change * 100, set_ml=q.set_tidal_volume_ml,
                               vt_ml=q.tidal_volume_ml, rate_per_min=q.rate_per_min,
                               expected_mmhg=q.expected_paco2_mmhg))
     if x.oxygenation is not None:
         why.append(x.oxygenation.sentence())
-    return tuple(why)
+    note = _not_as_chosen(x)
+    return tuple(why) if note is None else (note, *why)  # the reason a choice was not kept comes first
+
+
+def preference_reason(rationale: tuple[Phrase, ...]) -> Phrase | None:
+    """The rationale line saying why the change chosen was not kept, if there is one."""
+    return next((p for p in rationale if p.template.startswith(NOT_AS_CHOSEN)), None)

@@ -38,6 +38,26 @@ def _gradient_trend(entries: tuple[TimelineEntry, ...], new: Measurement, librar
                     first_mmhg=g0, at_min=t0, now_mmhg=g1, widening_mmhg=g1 - g0)]
 
 
+def patient_tidal_volume(request: Request, set_vt_ml: float, rate_per_min: float,
+                         library: Library | None = None) -> float:
+    """The volume (mL) this patient receives when ``set_vt_ml`` is set on the ventilator (or measured exhaled at the
+    machine) at ``rate_per_min``: the set volume less the circuit's compression (ventset.evaluate.vt_at_patient)."""
+    from ventset.evaluate import vt_at_patient
+
+    subject = plan(request, library or load_library()).subject
+    assert subject is not None
+    return vt_at_patient(subject, set_vt_ml, rate_per_min)
+
+
+def measurement_at_set(request: Request, measurement: Measurement, library: Library | None = None) -> Measurement:
+    """``measurement`` whose tidal volume was entered as the set volume (``set_tidal_volume_ml``), with the
+    patient's volume filled in from it."""
+    if measurement.set_tidal_volume_ml is None:
+        return measurement
+    vt = patient_tidal_volume(request, measurement.set_tidal_volume_ml, measurement.rate_per_min, library)
+    return replace(measurement, tidal_volume_ml=vt)
+
+
 def record_measurement(entries: tuple[TimelineEntry, ...], request: Request, measurement: Measurement,
                        prefer: str = "rate", library: Library | None = None) -> tuple[TimelineEntry, ...]:
     """Append a measurement with its proposal to the record (a new tuple; the old one is unchanged).
