@@ -590,6 +590,28 @@ class InputForm(QWidget):
         grid.addWidget(self.situations, self._r + 1, 0, 1, 3)
         self._r += 2
         self.situations.changed.connect(lambda keys: self._push({"situations": keys}, "Change situations"))
+        self.age_combo = QComboBox(box)
+        self.age_combo.setObjectName("age")
+        for value, text in (("", "By body mass"), ("adult", "Adult"), ("juvenile", "Juvenile (growing)"),
+                            ("neonate", "Neonate")):
+            self.age_combo.addItem(text, value)
+        compact(self.age_combo)
+        self._label_row(box, grid, "Age", self.age_combo,
+                        "Growing animals use more oxygen per kg than the adult line: a juvenile or neonate is planned "
+                        "at the species' own published level, or the placental default (see the assumptions). "
+                        "'By body mass' uses the species' mass thresholds where it has them.")
+        self.age_combo.activated.connect(
+            lambda i: self._push({"age": self.age_combo.itemData(i)}, "Change age"))
+        self.state_combo = QComboBox(box)
+        self.state_combo.setObjectName("state")
+        for value, text in (("fasted", "Fasted (standard rate)"), ("fed", "Recently fed"), ("gravid", "Gravid")):
+            self.state_combo.addItem(text, value)
+        compact(self.state_combo)
+        self._label_row(box, grid, "Reptile state", self.state_combo,
+                        "For reptiles and other ectotherms: a meal raises metabolism several-fold for days, "
+                        "gestation by about a third (published multipliers in the assumptions).")
+        self.state_combo.activated.connect(
+            lambda i: self._push({"state": self.state_combo.itemData(i)}, "Change physiological state"))
 
     def _circuit_header(self, box: QGroupBox, grid: QGridLayout) -> None:
         self.mode_combo = QComboBox(box)
@@ -842,6 +864,10 @@ class InputForm(QWidget):
             self.circuit_combo.setCurrentIndex(max(0, self.circuit_combo.findData(s[k])))
         elif k == "machine":
             self.machine_combo.setCurrentIndex(max(0, self.machine_combo.findData(s[k])))
+        elif k == "age":
+            self.age_combo.setCurrentIndex(max(0, self.age_combo.findData(s[k])))
+        elif k == "state":
+            self.state_combo.setCurrentIndex(max(0, self.state_combo.findData(s[k])))
         elif k == "strategy":
             self.strategy_combo.setCurrentIndex(max(0, self.strategy_combo.findData(s[k])))
         elif k == "parts":

@@ -144,7 +144,8 @@ def blank_state(units: dict[str, str] | None = None) -> dict:
     """Every key present, every field empty, units from ``units`` (else the first choice)."""
     units = units or {}
     state: dict = {"species": "", "custom_species": "", "name": "", "mode": "", "circuit": "",
-                   "strategy": "volume_first", "parts": (), "situations": (), "machine": "", "notice": ""}
+                   "strategy": "volume_first", "parts": (), "situations": (), "machine": "", "notice": "",
+                   "age": "", "state": "fasted"}
     for key, spec in FIELDS.items():
         state[TEXT + key] = ""
         state[UNIT + key] = units.get(key, spec.units[0])
@@ -185,6 +186,9 @@ def species_change(state: dict, species: str, species_label: str) -> dict:
     if state.get("situations"):
         changes["situations"] = ()
         reset.append("situations")
+    if state.get("age") or state.get("state", "fasted") != "fasted":
+        changes["age"], changes["state"] = "", "fasted"
+        reset.append("age and state")
     changes["notice"] = (f"New species {species_label}: reset to its defaults: {', '.join(reset)}." if reset
                          else "")
     return changes
@@ -200,7 +204,7 @@ def state_from_request(request: Request, units: dict[str, str], library: Library
                  circuit=c.circuit_type or "", strategy=s.name, machine=c.machine or "",
                  custom_species=getattr(p, "custom_species", "") or "",
                  parts=tuple((x.name, edit_text(x.volume_ml), x.source, x.volume_ml) for x in c.parts),
-                 situations=tuple(p.situations))
+                 situations=tuple(p.situations), age=p.age or "", state=p.state)
     defaults = _dataclass_defaults()
     for key, spec in FIELDS.items():
         try:
@@ -256,6 +260,7 @@ def request_from_state(state: dict, library: Library) -> tuple[Request | None, l
                                  "custom-species": state.get("custom_species", "").strip(),
                                  "mode": state.get("mode") or None, "circuit": state.get("circuit") or None,
                                  "machine": state.get("machine") or None,
+                                 "age": state.get("age") or None, "state": state.get("state") or "fasted",
                                  "strategy": state.get("strategy") or "volume_first",
                                  SITUATIONS_KEY: list(state.get("situations", ()))}
     for key in FIELDS:
