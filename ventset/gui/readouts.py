@@ -245,6 +245,7 @@ class SettingsPanel(QFrame):
         self.tiles: dict[str, Tile] = {}
         for key, name, unit in self.TILES:
             self.tiles[key] = Tile(key, name, unit, self, lines=3 if key == "fresh_gas" else 2)
+        self.grid_tiles = dict(self.tiles)  # the eight settings; the machine strip lays out its own
         self.columns = 0
         self._place(4)
         outer.addLayout(grid)
@@ -263,18 +264,18 @@ class SettingsPanel(QFrame):
         """Lay the tiles out in ``columns`` columns (rows as needed)."""
         if columns == self.columns:
             return
-        for tile in self.tiles.values():
+        for tile in self.grid_tiles.values():
             self.grid.removeWidget(tile)
         for c in range(max(self.columns, columns)):
             self.grid.setColumnStretch(c, 1 if c < columns else 0)
-        for i, tile in enumerate(self.tiles.values()):
+        for i, tile in enumerate(self.grid_tiles.values()):
             self.grid.addWidget(tile, i // columns, i % columns)
         self.columns = columns
 
     def reflow(self) -> None:
         """As many columns as keep every tile's number, name and detail whole at this width."""
         width = self.width()
-        need = max(t.needed_width() for t in self.tiles.values())
+        need = max(t.needed_width() for t in self.grid_tiles.values())
         sp = self.grid.horizontalSpacing()
         fits = [c for c in self.COLUMN_CHOICES if (width - (c - 1) * sp) / c >= need]
         self._place(fits[0] if fits else 1)

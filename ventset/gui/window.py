@@ -151,6 +151,7 @@ class MainWindow(QMainWindow):
 
         middle_scroll = QScrollArea(self.splitter)  # scrolls only when the window is too low for the tiles
         middle_scroll.setObjectName("middle-scroll")
+        middle_scroll.setFocusPolicy(Qt.FocusPolicy.NoFocus)  # a container: Tab goes to what it holds
         middle_scroll.setWidgetResizable(True)
         middle_scroll.setFrameShape(QScrollArea.Shape.NoFrame)
         middle_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
