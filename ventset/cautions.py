@@ -8,13 +8,14 @@ triggered them by unit suffix (``{pao2_mmhg}``), so they are shown in the reader
 from __future__ import annotations
 
 import math
-import re
 from collections.abc import Callable
 from dataclasses import dataclass, replace
 
+from ventset.caution_make import caution
 from ventset.library import Library, Species
 from ventset.model import Caution, Plan
 from ventset.situation_cautions import SITUATION_RULES
+from ventset.species_cautions import custom_species, taxon_only, thin_data
 from ventset.stages.airway import usual_tube
 
 SEVERITY_ORDER = {"danger": 0, "caution": 1, "info": 2}
@@ -48,15 +49,6 @@ class Context:
     def chosen(self) -> bool:
         """True when the planner chose the settings (rather than evaluating settings it was given)."""
         return not NOT_CHOSEN & set(self.binding)
-
-
-def caution(severity: str, code: str, template: str, texts: dict[str, str] | None = None, /,
-            **values: float) -> Caution:
-    """A Caution with its numbers (named by unit suffix) and words kept apart from the sentence.
-
-    The first four are positional only, so a number's name can never be taken for one of them."""
-    return Caution(severity, code, template, tuple((k, float(v)) for k, v in values.items()),
-                   tuple((texts or {}).items()))
 
 
 def limit_words(binding: tuple[str, ...]) -> str:
@@ -410,53 +402,6 @@ def no_tube_entered(x: Context) -> list[Caution]:
                     tube_mm=float(tid), beyond_cm=float(length), tube_ml=x.plan.dead_space.tube_ml)]
 
 
-_YEAR = re.compile(r"\b(1[89]|20)\d\d\b")
-# The species inputs that set the ventilation, with the words the caution names them by.
-_VENTILATION_INPUTS: tuple[tuple[str, Callable[[Species], str]], ...] = (
-    ("the metabolic level under anaesthesia", lambda sp: sp.anaesthesia_factor.source),
-    ("the airway dead space", lambda sp: sp.airway_dead_space_ml_kg.source if sp.airway_dead_space_ml_kg
-     else sp.anatomical_source),
-    ("the alveolar dead space", lambda sp: sp.alveolar_dead_space_fraction.source),
-    ("the compliance", lambda sp: sp.compliance_ml_cmh2o_kg.source),
-)
-
-
-def _from_memory_only(source: str) -> bool:
-    """A source that says "from memory" and cites no dated publication."""
-    return "from memory" in source.lower() and not _YEAR.search(source)
-
-
-def thin_data(x: Context) -> list[Caution]:
-    """Say so when several of the inputs that set the ventilation rest on no published measurement."""
-    if x.plan.request.patient.custom_species.strip() or x.plan.request.patient.taxon.strip():
-        return []  # CUSTOM_SPECIES or TAXON_ONLY already says the values are not the species' own
-    thin = [words for words, source in _VENTILATION_INPUTS if _from_memory_only(source(x.species))]
-    if len(thin) < x.threshold["thin_data_items"]:
-        return []
-    return [caution("caution", "THIN_DATA",
-                    "Data for {species} are thin: {what} rest on no published measurement in this species. Expect "
-                    "the first PaCO2 to differ from the plan: watch EtCO2 and chest movement from the first breaths "
-                    "and check an arterial blood gas early.",
-                    {"species": x.species.label, "what": ", ".join(thin[:-1]) + " and " + thin[-1]})]
-
-
-def taxon_only(x: Context) -> list[Caution]:
-    """A species not listed, planned by its metabolic group alone: say so, and what to watch."""
-    p = x.plan.request.patient
-    if not p.taxon.strip():
-        return []
-    g = x.species.group
-    name = p.custom_species.strip() or "This patient"
-    return [caution("caution", "TAXON_ONLY",
-                    "{name} is planned by its metabolic group alone ({group}): no species entry and no base species, "
-                    "only group allometry (metabolic rate {k_kcal_day}·M^{exponent}, dead space, compliance) and the "
-                    "group's usual ranges. Expect the first PaCO2 to differ from the plan: watch EtCO2, chest or "
-                    "body-wall movement and airway pressure from the first breaths, check an arterial blood gas "
-                    "early, and enter what you measure (temperature, metabolic rate, compliance).",
-                    {"name": name, "group": g.label.lower()}, k_kcal_day=g.k_kcal_day.value,
-                    exponent=g.exponent.value)]
-
-
 def tube_size(x: Context) -> list[Caution]:
     """An entered tube far from the usual internal diameter for the mass: it may not fit, or it belongs to a much
     smaller patient (often a value left from the previous patient)."""
@@ -478,17 +423,6 @@ def tube_size(x: Context) -> list[Caution]:
                     "{mass_kg}: resistance rises with 1/ID⁴ (Poiseuille) and is not in the plan's airway "
                     "resistance, and gas leaks around it. Check that the tube entered belongs to this patient.",
                     **values)]
-
-
-def custom_species(x: Context) -> list[Caution]:
-    name = x.plan.request.patient.custom_species.strip()
-    if not name or x.plan.request.patient.taxon.strip():
-        return []
-    return [caution("caution", "CUSTOM_SPECIES",
-                    "{name} is not in the species library: every value not entered comes from {species} (usual "
-                    "tidal volume and rate, pressure limit, compliance, dead space, metabolism). Enter what you know "
-                    "about this species and titrate closely to capnography and chest movement.",
-                    {"name": name, "species": x.species.label})]
 
 
 RULES: tuple[Callable[[Context], list[Caution]], ...] = (

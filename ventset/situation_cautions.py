@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 from typing import Any
 
+from ventset.caution_make import caution
 from ventset.fields import FIELDS
 from ventset.model import Caution, Plan
 from ventset.physiology.co2stores import time_to_fraction_min
@@ -22,11 +23,6 @@ _NEEDS = {
     "body-temperature": "CO2 output follows the measured temperature, and the plan is using the species' normal",
     "altitude": "barometric pressure and the alveolar PO2 follow the altitude, and the plan is at sea level",
 }
-
-
-def _c(severity: str, code: str, template: str, texts: dict[str, str] | None = None, **values: float) -> Caution:
-    return Caution(severity, code, template, tuple((k, float(v)) for k, v in values.items()),
-                   tuple((texts or {}).items()))
 
 
 def _applied(ctx: Any) -> Applied | None:
@@ -45,7 +41,7 @@ def situation_notes(ctx: Any) -> list[Caution]:
         for n in s.cautions:
             if n.code not in seen:
                 seen.add(n.code)
-                out.append(_c(n.severity, n.code, "{note} ({source})", {"note": n.text, "source": n.source}))
+                out.append(caution(n.severity, n.code, "{note} ({source})", {"note": n.text, "source": n.source}))
     return out
 
 
@@ -69,13 +65,13 @@ def needed_inputs(ctx: Any) -> list[Caution]:
     for s in a.situations:
         for key in s.asks_for:
             if not _entered(ctx.plan, key):
-                out.append(_c("caution", "SITUATION_NEEDS_INPUT", "{situation}: enter the {field}; {why}.",
+                out.append(caution("caution", "SITUATION_NEEDS_INPUT", "{situation}: enter the {field}; {why}.",
                               {"situation": s.label, "field": FIELDS[key].label.lower(), "why": _NEEDS.get(key, "")}))
         per = s.co2_per_degree_above_normal
         r, sp = ctx.plan.resolved, ctx.species
         if per is not None and _entered(ctx.plan, "body-temperature") and r.body_temp_c <= \
                 sp.body_temperature_c.start:
-            out.append(_c("info", "SITUATION_TEMPERATURE_NORMAL",
+            out.append(caution("info", "SITUATION_TEMPERATURE_NORMAL",
                           "{situation}: the entered temperature {body_temp_c} is not above the normal {normal_c}, "
                           "so no extra CO2 output was planned.", {"situation": s.label},
                           body_temp_c=r.body_temp_c, normal_c=sp.body_temperature_c.start))
@@ -97,7 +93,7 @@ def co2_bolus(ctx: Any) -> list[Caution]:
         load = dose * b.ml_per_mmol
         minutes = b.duration_s / 60.0
         extra = load / minutes
-        out.append(_c("caution", "BICARBONATE_CO2_LOAD",
+        out.append(caution("caution", "BICARBONATE_CO2_LOAD",
                       "A bolus of {dose} mmol sodium bicarbonate ({dose_rate} mmol/kg assumed) releases up to "
                       "{load_ml} of CO2 ({per_mmol} mL per mmol): over about {minutes_min} that is up to "
                       "{extra_ml_min} on top of the CO2 output of {vco2_ml_min} (×{ratio}). Give it slowly, raise "
@@ -117,10 +113,10 @@ def low_flow_oxygen(ctx: Any) -> list[Caution]:
     o, m = ctx.plan.oxygen, ctx.plan.metabolism
     b = ctx.plan.basis
     if b is not None and not b.system.circuit.rebreathing:
-        return [_c("caution", "LOW_FLOW_CIRCUIT",
+        return [caution("caution", "LOW_FLOW_CIRCUIT",
                    "Low flow needs a rebreathing (circle) system; the {circuit} passes its fresh gas straight out. "
                    "Choose a circle or keep the flow the plan gives.", {"circuit": o.circuit_label})]
-    return [_c("caution", "LOW_FLOW_OXYGEN",
+    return [caution("caution", "LOW_FLOW_OXYGEN",
                "With low flow the oxygen flow must stay above the patient's oxygen use {vo2_ml_min} plus sample gas "
                "not returned and any leak: at least {min_o2_ml_min} here (the plan's maintenance flow is "
                "{fresh_ml_min}).", vo2_ml_min=m.vo2_ml_min, min_o2_ml_min=o.min_o2_flow_ml_min,
@@ -139,7 +135,7 @@ def co2_course(ctx: Any) -> list[Caution]:
                   default=None)
     extra = " The added CO2 output itself reaches its plateau about {plateau_min} after it starts." if plateau else ""
     st = a.co2_stores
-    return [_c("info", "SITUATION_CO2_COURSE",
+    return [caution("info", "SITUATION_CO2_COURSE",
                "CO2 output is ×{factor} for {situations}. At the ventilation that would hold PaCO2 {from_mmhg} "
                "without them, PaCO2 would {way} towards {to_mmhg} (half-time about {half_min}; 95 % after "
                "about {t95_min})." + extra + " Re-check EtCO2 about {etco2_min} and a blood gas about {gas_min} "
@@ -181,25 +177,25 @@ def against_situation(ctx: Any) -> list[Caution]:
     if a.paco2_band_mmhg and (t.paco2_mmhg is not None or t.etco2_mmhg is not None):
         lo, hi = a.paco2_band_mmhg
         if not lo - 1e-9 <= v.target_paco2_mmhg <= hi + 1e-9:
-            out.append(_c("caution", "SITUATION_TARGET", "The target PaCO2 {target_mmhg} is outside the {lo_mmhg}–"
+            out.append(caution("caution", "SITUATION_TARGET", "The target PaCO2 {target_mmhg} is outside the {lo_mmhg}–"
                           "{hi_mmhg} advised for {situations}.", labels, target_mmhg=v.target_paco2_mmhg,
                           lo_mmhg=lo, hi_mmhg=hi))
     if a.paco2_ceiling_mmhg is not None and math.isfinite(v.expected_paco2_mmhg) and \
             v.expected_paco2_mmhg > a.paco2_ceiling_mmhg + 1.0:
-        out.append(_c("caution", "SITUATION_PACO2_CEILING", "The expected PaCO2 {expected_mmhg} is above the "
+        out.append(caution("caution", "SITUATION_PACO2_CEILING", "The expected PaCO2 {expected_mmhg} is above the "
                       "{ceiling_mmhg} accepted for {situations}: raise ventilation or reduce the CO2 load.", labels,
                       expected_mmhg=v.expected_paco2_mmhg, ceiling_mmhg=a.paco2_ceiling_mmhg))
     if _over(t.peep_cmh2o, a.peep_max_cmh2o) or _over(t.peep_cmh2o, a.peep_min_cmh2o, below=True):
-        out.append(_c("caution", "SITUATION_PEEP", "The entered PEEP {peep_cmh2o} is outside what {situations} "
+        out.append(caution("caution", "SITUATION_PEEP", "The entered PEEP {peep_cmh2o} is outside what {situations} "
                       "advise ({range}).", {**labels, "range": _peep_range(a)}, peep_cmh2o=pr.peep_cmh2o))
     if a.pressure_limit_cmh2o is not None and _over(t.pressure_limit_cmh2o, a.pressure_limit_cmh2o):
-        out.append(_c("caution", "SITUATION_PRESSURE_LIMIT", "The entered pressure limit {entered_cmh2o} is above "
+        out.append(caution("caution", "SITUATION_PRESSURE_LIMIT", "The entered pressure limit {entered_cmh2o} is above "
                       "the {limit_cmh2o} advised for {situations}.", labels, entered_cmh2o=pr.pressure_limit_cmh2o,
                       limit_cmh2o=a.pressure_limit_cmh2o))
     for what, value, limit in (("plateau", pr.plateau_cmh2o, a.plateau_limit_cmh2o),
                                ("driving pressure", pr.driving_cmh2o, a.driving_limit_cmh2o)):
         if limit is not None and _over(value, limit):
-            out.append(_c("caution", "SITUATION_PRESSURE", "The {what} {value_cmh2o} is above the {limit_cmh2o} "
+            out.append(caution("caution", "SITUATION_PRESSURE", "The {what} {value_cmh2o} is above the {limit_cmh2o} "
                           "limit of {situations}: lower the tidal volume.", {**labels, "what": what},
                           value_cmh2o=value, limit_cmh2o=limit))
     return out + _limit_bound(ctx, a)
@@ -225,7 +221,7 @@ def _limit_bound(ctx: Any, a: Applied) -> list[Caution]:
         return []
     limit = m.plateau_limit_cmh2o if what == "plateau limit" else m.driving_limit_cmh2o
     owners = tuple(s for s in a.situations if _limit_of(s, what) == limit)
-    return [_c("info", "SITUATION_LIMIT_BINDING", "The tidal volume is held at {vt_ml_kg} by the {what} of "
+    return [caution("info", "SITUATION_LIMIT_BINDING", "The tidal volume is held at {vt_ml_kg} by the {what} of "
                "{limit_cmh2o} for {situations}.", {"what": what, "situations": a.labels(owners or None)},
                vt_ml_kg=ctx.plan.ventilation.tidal_volume_ml / ctx.plan.resolved.lean_mass_kg, limit_cmh2o=limit)]
 
