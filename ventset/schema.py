@@ -492,10 +492,9 @@ class FileSchema:
         at = Where(self.name)
         if self.version is None:
             return Table(self.name, fields=self.fields, checks=self.checks).read_table(document, at)
-        version = document.get("schema_version")
         if "schema_version" not in document:
             raise at.at("schema_version").fail(f"is missing (must be {self.version})")
-        if isinstance(version, bool) or version != self.version:
+        if isinstance(version := document["schema_version"], bool) or version != self.version:
             raise at.at("schema_version").fail(f"must be {self.version} (got {shown(version)})")
         body = {k: v for k, v in document.items() if k != "schema_version"}
         return Table(self.name, fields=self.fields, checks=self.checks).read_table(body, at)
