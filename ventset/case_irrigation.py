@@ -19,12 +19,11 @@ from ventset.aquatic.report import irrigation_to_dict, request_to_dict
 from ventset.case_model import FORMAT, KIND_IRRIGATION, MAX_CASE_BYTES, MAX_EARLIER_PLANS, SCHEMA_VERSION
 from ventset.case_reading import (
     BadField,
-    checked_kind,
+    checked_envelope,
     checked_record,
     checked_text,
     checked_timestamp,
     policy_text,
-    type_name,
 )
 from ventset.errors import InputError
 
@@ -135,18 +134,8 @@ def irrigation_request_from_case_dict(data: object, where: str = "request") -> I
 
 def irrigation_case_from_current(data: dict) -> IrrigationCase:
     """An irrigation case from a dict of the current schema (raises BadField naming the field)."""
-    checked_kind(data, KIND_IRRIGATION)  # first: a case of the other kind is named as such
-    unknown = sorted(set(data) - _KEYS)
-    if unknown:
-        raise BadField(unknown[0], f"is not part of an irrigation case (schema {SCHEMA_VERSION})")
-    if "request" not in data:
-        raise BadField("request", "is missing")
-    plan = data.get("plan")
-    if plan is not None and not isinstance(plan, dict):
-        raise BadField("plan", f"must be an object or null (got {type_name(plan)})")
-    earlier = data.get("earlier_plans", [])
-    if not isinstance(earlier, list) or not all(isinstance(e, dict) for e in earlier):
-        raise BadField("earlier_plans", "must be a list of objects")
+    plan, earlier = checked_envelope(data, KIND_IRRIGATION, _KEYS,
+                                     f"is not part of an irrigation case (schema {SCHEMA_VERSION})")
     return IrrigationCase(
         request=irrigation_request_from_case_dict(data["request"]),
         plan=plan,

@@ -210,23 +210,30 @@ def checked_kind(data: dict, expected: str) -> str:
     return kind
 
 
-def case_from_current(data: dict) -> Case:
-    """A ventilation case from a dict of the current schema (raises BadField naming the field)."""
-    checked_kind(data, KIND_VENTILATION)  # first: a case of the other kind is named as such
-    unknown = sorted(set(data) - _KEYS)
+def checked_envelope(data: dict, kind: str, keys: frozenset[str] | set[str], unknown_why: str) -> tuple:
+    """The parts every case kind shares, checked: the kind first (a case of the other kind is named as such), no
+    unknown key, a request, the stored plan (object or null) and the earlier plans; returns (plan, earlier)."""
+    checked_kind(data, kind)
+    unknown = sorted(set(data) - set(keys))
     if unknown:
-        raise BadField(unknown[0], f"is not part of case schema {SCHEMA_VERSION}")
+        raise BadField(unknown[0], unknown_why)
     if "request" not in data:
         raise BadField("request", "is missing")
     plan = data.get("plan")
     if plan is not None and not isinstance(plan, dict):
         raise BadField("plan", f"must be an object or null (got {type_name(plan)})")
-    timeline = data.get("timeline")
-    if timeline is not None and not isinstance(timeline, list | dict):
-        raise BadField("timeline", f"must be a list, an object or null (got {type_name(timeline)})")
     earlier = data.get("earlier_plans", [])
     if not isinstance(earlier, list) or not all(isinstance(e, dict) for e in earlier):
         raise BadField("earlier_plans", "must be a list of objects")
+    return plan, earlier
+
+
+def case_from_current(data: dict) -> Case:
+    """A ventilation case from a dict of the current schema (raises BadField naming the field)."""
+    plan, earlier = checked_envelope(data, KIND_VENTILATION, _KEYS, f"is not part of case schema {SCHEMA_VERSION}")
+    timeline = data.get("timeline")
+    if timeline is not None and not isinstance(timeline, list | dict):
+        raise BadField("timeline", f"must be a list, an object or null (got {type_name(timeline)})")
     return Case(
         request=request_from_case_dict(data["request"]),
         plan=plan,
