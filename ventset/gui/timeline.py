@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from datetime import datetime
 
 import pyqtgraph as pg
@@ -44,7 +44,6 @@ from ventset.gui.text import esc, plain, plain_tip
 from ventset.gui.theme import DAY, Theme, scaled_font, severity_colours
 from ventset.library import Library, load_library
 from ventset.model import Plan, Request
-from ventset.physiology import metabolism
 from ventset.planner import plan
 from ventset.present.quantities import Units, show
 from ventset.textpolicy import check_text
@@ -63,6 +62,7 @@ from ventset.titrate import (
     record_measurement,
     settings_in_use,
 )
+from ventset.titrate.apply import metabolic_rate_from_vco2_w, request_with_settings
 from ventset.units import fmt, mmhg_to_kpa
 
 # key, label, unit shown, placeholder; VT and rate are the settings in use, the rest is what was measured.
@@ -458,7 +458,7 @@ class TimelinePanel(QWidget):
         power = None
         if self.plan_from_measured.isChecked() and e.vco2_ml_min:
             rq = self._rq()
-            power = None if rq is None else metabolism.power_w_from_vo2(e.vco2_ml_min / rq, rq)
+            power = None if rq is None else metabolic_rate_from_vco2_w(e.vco2_ml_min, rq)
         applied = AppliedSettings(s, which, power, e.measurement.time_min)
         words = {"proposal": "the proposal", "partial_step": "the part-way step", "own": "your own settings"}[which]
         msg = f"Set {words}: {_settings_text(s)} is now the settings in use."
@@ -754,12 +754,7 @@ def install(window) -> TimelinePanel:
         if req is None or plan is None:
             return
         s = applied.settings
-        strategy = replace(req.strategy, rate_per_min=s.rate_per_min,
-                           vt_ml_kg=s.tidal_volume_ml / plan.resolved.lean_mass_kg)
-        patient = req.patient
-        if applied.metabolic_rate_w is not None:
-            patient = replace(patient, metabolic_rate_w=applied.metabolic_rate_w)
-        ctl.set_request(replace(req, patient=patient, strategy=strategy))
+        ctl.set_request(request_with_settings(req, plan, s.tidal_volume_ml, s.rate_per_min, applied.metabolic_rate_w))
 
     gas = getattr(getattr(window, "form", None), "gas_unit", None)
     panel = TimelinePanel(current_request, apply, ctl.library, gas_unit=gas, parent=window)
