@@ -37,7 +37,7 @@ def test_a_half_typed_number_is_never_planned(qtbot, window):
     edit.selectAll()
     _keys(qtbot, edit, "450")
     assert 4.0 not in seen and 45.0 not in seen
-    qtbot.waitUntil(lambda: window.controller.plan.resolved.mass_kg == 450.0, timeout=TYPING_PAUSE_MS * 8)
+    qtbot.waitUntil(lambda: window.controller.plan.resolved.mass_kg == 450.0, timeout=10_000)  # generous: a loaded machine is slow to fire the timer
     assert seen == [450.0]
 
 
