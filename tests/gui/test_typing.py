@@ -10,7 +10,6 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication
 
 from tests.gui.conftest import settle
-from ventset.gui.form import TYPING_PAUSE_MS
 
 
 def _planned_masses(window) -> list[float]:
@@ -37,7 +36,8 @@ def test_a_half_typed_number_is_never_planned(qtbot, window):
     edit.selectAll()
     _keys(qtbot, edit, "450")
     assert 4.0 not in seen and 45.0 not in seen
-    qtbot.waitUntil(lambda: window.controller.plan.resolved.mass_kg == 450.0, timeout=10_000)  # generous: a loaded machine is slow to fire the timer
+    # generous: a loaded machine is slow to fire the timer
+    qtbot.waitUntil(lambda: window.controller.plan.resolved.mass_kg == 450.0, timeout=10_000)
     assert seen == [450.0]
 
 
