@@ -261,3 +261,16 @@ def test_cli_writes_the_pdf_headless_without_a_display(tmp_path):
     bad = subprocess.run([sys.executable, "-m", "ventset", "plan", "--species", "cat", "--mass", "4 kg", "--pdf",
                           str(tmp_path / "no" / "x.pdf")], env=env, capture_output=True, text=True, timeout=120)
     assert bad.returncode == 2 and bad.stderr.count("\n") == 1 and "does not exist" in bad.stderr
+
+
+@needs_poppler
+def test_the_dial_settings_print_under_the_machine_name(qapp, tmp_path):
+    # Issue 12: the PDF shows the dial settings under the machine's name, as the text output does.
+    req = Request(Patient("horse", 450.0, name="Mistral (invented)"), Circuit(machine="bellows_large_animal"))
+    p = plan(req, load_library())
+    pdf, _ = _write(tmp_path, p)
+    text = _flat(_text(pdf))
+    assert "ON THE MACHINE: LARGE-ANIMAL BELLOWS" in text and "TURN THESE" in text
+    for row in ("Bellows volume", "Inspiratory flow", "Breaths per minute", "Expected PaCO2 as dialled"):
+        assert row in text
+    assert fmt(p.machine.evaluation.paco2_mmhg) in text  # the dialled PaCO2, not the ideal one

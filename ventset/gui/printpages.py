@@ -21,6 +21,7 @@ from ventset import __version__
 from ventset.errors import visible
 from ventset.gui.sheet import Sheet
 from ventset.model import Plan
+from ventset.present.dials import machine_outcome_rows, machine_rows, machine_title
 from ventset.present.quantities import MMHG, Units, show
 from ventset.present.rows import (
     assumption_value,
@@ -199,6 +200,26 @@ def _derived_blocks(sh: Sheet, pr: Printout, width: float) -> list[Block]:
     return out
 
 
+def _machine_blocks(sh: Sheet, pr: Printout, width: float) -> list[Block]:
+    """The dial settings under the machine's name, then what the dialled breath gives (ventset.present.dials)."""
+    title = machine_title(pr.plan)
+    if not title:
+        return []
+    out = [_heading(sh, title.upper() + " — TURN THESE", width)]
+    label_w, font, bold = 150.0, sh.font(8), sh.font(8, bold=True)
+    rows = [(r, True) for r in machine_rows(pr.plan)] + [(r, False) for r in machine_outcome_rows(pr.plan, pr.units)]
+    for row, dial in rows:  # the controls to turn in bold, then what they give
+        text = f"{row.value} {row.unit}".strip() + f"   {row.detail}"
+        h = max(sh.height(text, font, width - label_w), sh.height(row.name, bold, label_w)) + 1.5
+
+        def draw(x: float, y: float, row=row, text=text, dial=dial) -> None:
+            sh.text(x, y, label_w - 4, row.name, bold)
+            sh.text(x + label_w, y, width - label_w, text, bold if dial else font)
+
+        out.append(Block(h, draw))
+    return out
+
+
 def _assumption_blocks(sh: Sheet, pr: Printout, width: float) -> list[Block]:
     items = ordered_assumptions(pr.plan)
     out = [_heading(sh, f"ASSUMPTIONS AND SOURCES ({len(items)}, most important first)", width)]
@@ -245,6 +266,7 @@ def build_blocks(sh: Sheet, pr: Printout, width: float) -> list[Block]:
     else:
         blocks.append(_tiles_block(sh, pr, width))
         blocks.append(_text_block(sh, expectation_line(plan, pr.units), sh.font(10.5, bold=True), width, gap=4))
+        blocks += _machine_blocks(sh, pr, width)
     return (blocks + _caution_blocks(sh, pr, width) + _derived_blocks(sh, pr, width)
             + _assumption_blocks(sh, pr, width) + _record_blocks(sh, pr, width))
 
