@@ -488,3 +488,13 @@ def test_plan_used_is_the_plan_of_the_request(library):
     req = dog(paco2_mmhg=40.0)
     a = adjust(req, Measurement(0, 200.0, 12.0, paco2_mmhg=45.0), "rate", library)
     assert a.plan.dead_space.anatomical_ml == plan(req, library).dead_space.anatomical_ml
+
+
+def test_the_proposal_says_how_fast_paco2_follows(library):
+    # One-compartment CO2 stores: 95 % of a step is complete after half-time · log2(1/0.05) = 4 · 4.32 = 17.3 min
+    # (fall half-time 4 min in dogs, Farhi & Rahn 1955, situations.toml [co2_stores]).
+    a = adjust(dog(paco2_mmhg=40.0), Measurement(0, 200.0, 10.0, paco2_mmhg=55.0), "rate", library)
+    course = next(p for p in a.rationale if "body CO2 stores" in p.text())
+    assert "fall from 55 mmHg towards 40 mmHg" in course.text() and "17.3 min" in course.text()
+    held = adjust(dog(paco2_mmhg=40.0), Measurement(0, 200.0, 10.0, paco2_mmhg=40.2), "rate", library)
+    assert not any("body CO2 stores" in p.text() for p in held.rationale)  # nothing to wait for

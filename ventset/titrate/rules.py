@@ -13,6 +13,7 @@ from typing import TYPE_CHECKING
 from ventset.cautions import LIMIT_WORDS, caution, sort_cautions
 from ventset.library import Library
 from ventset.model import Caution, Plan, Request
+from ventset.physiology import co2stores
 from ventset.present.phrases import Phrase, phrase
 from ventset.titrate.data import load_titration_data
 from ventset.titrate.oxygenation import Oxygenation, spo2_cautions
@@ -271,6 +272,23 @@ def _move(x: AdjustContext) -> Phrase:
                   expected_mmhg=p.expected_paco2_mmhg, plateau_cmh2o=p.plateau_cmh2o)
 
 
+def _course(x: AdjustContext) -> Phrase | None:
+    """How fast PaCO2 follows the proposed change: body CO2 stores (ventset.physiology.co2stores), half-times
+    in resources/situations.toml [co2_stores]."""
+    stores = x.library.co2_stores
+    if not stores:
+        return None
+    start, end = x.reading.paco2_mmhg, x.steps.proposal.expected_paco2_mmhg
+    if not (math.isfinite(start) and math.isfinite(end)) or abs(end - start) < 0.5:
+        return None
+    kind = "fall" if end < start else "rise"
+    half = stores[f"{kind}_half_time_min"]
+    return phrase("After the change PaCO2 should {kind} from {start_mmhg} towards {end_mmhg}: half-way in "
+                  "{half_min}, 95 % of the way in {full_min} (body CO2 stores; {source}). Judge the new level "
+                  "then, not at once.", {"kind": kind, "source": half.source}, start_mmhg=start, end_mmhg=end,
+                  half_min=half.value, full_min=co2stores.time_to_fraction_min(0.95, half.value))
+
+
 def rationale(x: AdjustContext) -> tuple[Phrase, ...]:
     """Why the proposal is what it is, in plain sentences with their numbers."""
     m, r, st = x.measurement, x.reading, x.steps
@@ -300,6 +318,9 @@ def rationale(x: AdjustContext) -> tuple[Phrase, ...]:
                           need_ml_min=r.needed_alveolar_ml_min,
                           change_percent=(r.needed_alveolar_ml_min / va0 - 1) * 100))
         why.append(_move(x))
+        course = _course(x)
+        if course is not None:
+            why.append(course)
         if st.large:
             q = st.partial
             why.append(phrase("Part-way ({share_percent} of the change): set {set_ml} ({vt_ml} at the patient) at "
