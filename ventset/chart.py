@@ -17,6 +17,7 @@ from datetime import datetime
 from typing import Any
 
 from ventset import __version__
+from ventset.chart_dials import DialRow, dial_rows
 from ventset.errors import InputError
 from ventset.library import Library, load_library
 from ventset.model import STANDING_NOTICE, Assumption, Request
@@ -55,6 +56,8 @@ class Chart:
     preset: str = ""
     made: str = ""
     standing_notice: str = STANDING_NOTICE
+    dials: tuple[DialRow, ...] = ()  # each row on the machine chosen (empty without one)
+    machine_label: str = ""
 
     @property
     def marked_rows(self) -> int:
@@ -127,11 +130,13 @@ def make_chart(request: Request, masses_kg: Any, library: Library | None = None,
     """The chart for ``request`` (its mass ignored) at ``masses_kg``; InputError naming the field."""
     lib = library or load_library()
     sw = sweep_mass(request, masses_kg, lib)
+    dials = dial_rows(request, sw.mass_kg, lib)
+    machine = next((d.label for d in dials if d.label), "")
     common, varying = _assumptions(request, float(sw.mass_kg.min()), float(sw.mass_kg.max()), lib)
     labels = {k: lib.circuits[k].label for k in dict.fromkeys(sw.circuit.tolist())}
     made = (when or datetime.now()).strftime("%Y-%m-%d %H:%M")
     return Chart(request, sw, lib.species[sw.species].label, labels, row_marks(sw, lib), common, varying, preset,
-                 made)
+                 made, dials=dials, machine_label=machine)
 
 
 def _number(x: Any) -> float | None:
@@ -148,6 +153,10 @@ def chart_rows(chart: Chart) -> list[dict]:
         row.update({k: _number(getattr(sw, k)[i]) for k in EXTRA})
         row.update(circuit=str(sw.circuit[i]), age=str(sw.age[i]), target_reached=bool(sw.target_reached[i]),
                    limits=list(sw.binding_at(i)), marks=list(chart.marks[i]))
+        if chart.dials:
+            d = chart.dials[i]
+            row["machine"] = {"controls": [{"name": n, "value": v} for n, v in d.controls],
+                              "expected_paco2_mmhg": _number(d.paco2_mmhg), "cautions": list(d.codes)}
         rows.append(row)
     return rows
 
@@ -173,11 +182,13 @@ def chart_to_csv(chart: Chart) -> str:
     for line in header_lines(chart):
         out.write(f"# {line}\n")
     keys = [k for k, _, _ in COLUMNS] + list(EXTRA) + ["circuit", "target_reached", "marks"]
+    if chart.dials:
+        keys.append("machine")
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow(keys)
-    for row in chart_rows(chart):
-        writer.writerow(["" if row[k] is None else row[k] if k != "marks" else "; ".join(row[k])
-                         for k in keys])
+    for i, row in enumerate(chart_rows(chart)):
+        writer.writerow(["" if row.get(k) is None else chart.dials[i].text() if k == "machine"
+                         else "; ".join(row[k]) if k == "marks" else row[k] for k in keys])
     return out.getvalue()
 
 
@@ -214,6 +225,9 @@ def chart_to_text(chart: Chart, units: Units = MMHG) -> str:
     lines += ["  ".join(x.rjust(w) for x, w in zip(r, widths, strict=True)).rstrip() for r in (head, *body)]
     if len(chart.circuit_labels) > 1:
         lines += ["", circuit_changes(chart, units)]
+    if chart.dials:
+        lines += ["", f"ON THE MACHINE: {chart.machine_label.upper()}", *dial_lines(chart, range(len(chart.sweep)),
+                                                                                   units)]
     lines += ["", "MARKED ROWS", *(notes or ["  none"])]
     lines += ["", "ASSUMPTIONS FOR EVERY ROW",
               *(f"  {a.name}: {assumption_value(a, units)} — {a.source}" for a in chart.common)]
@@ -221,6 +235,18 @@ def chart_to_text(chart: Chart, units: Units = MMHG) -> str:
         lines += ["", "Change with mass (see a single plan at that mass): " + "; ".join(chart.varying)]
     lines += ["", "NOTICE: " + chart.standing_notice]
     return "\n".join(lines)
+
+
+def dial_lines(chart: Chart, rows: range, units: Units = MMHG) -> list[str]:
+    """Each row's controls as dialled, its PaCO2 as dialled and the machine's cautions."""
+    out = []
+    for i in rows:
+        d = chart.dials[i]
+        said = f" ({', '.join(d.codes)})" if d.codes else ""
+        paco2 = split(d.paco2_mmhg, "gas", units)
+        out.append(f"  {cell(chart, i, 'mass_kg', 'mass', units)}: {d.text() or '—'}; PaCO2 as dialled "
+                   f"{paco2[0]} {paco2[1]}{said}")
+    return out
 
 
 def circuit_changes(chart: Chart, units: Units = MMHG) -> str:

@@ -12,7 +12,7 @@ import os
 from dataclasses import dataclass
 
 from ventset import __version__
-from ventset.chart import COLUMNS, Chart, cell, circuit_changes, header_lines, mark_rows_text
+from ventset.chart import COLUMNS, Chart, cell, circuit_changes, dial_lines, header_lines, mark_rows_text
 from ventset.gui.printing import DPI, ensure_app, page_size
 from ventset.gui.printpages import _species_version
 from ventset.gui.sheet import Sheet
@@ -88,6 +88,9 @@ def _mark_lines(chart: Chart, rows: range, units: Units) -> list[tuple[str, bool
         here = [i for i in where if i in rows]
         if here:
             out.append((f"[{k}] {mark_rows_text(chart, here, units)}: " + "; ".join(marks), marks[0][:2].isupper()))
+    if chart.dials:
+        out.append((f"On the machine: {chart.machine_label}", True))
+        out += [(line.strip(), False) for line in dial_lines(chart, rows, units)]
     return out
 
 
