@@ -140,7 +140,7 @@ def test_clinic_parts_add_list_remove_preset_export_import(tmp_path, capsys):
 
     shared = tmp_path / "shared.json"
     rc, _, err = _run(capsys, "clinic-parts", "export", str(shared))
-    assert rc == 0 and "exported 1 parts and 1 presets" in err
+    assert rc == 0 and "exported 1 parts, 1 presets and 0 ventilators" in err
     rc, _, err = _run(capsys, "clinic-parts", "remove", "Blue HME, cat")
     assert rc == 0
     rc, _, err = _run(capsys, "clinic-parts", "add", "Blue HME, cat", "11 mL")

@@ -72,7 +72,7 @@ def test_save_and_load_round_trip_and_previous_version_kept(tmp_path):
     previous = partslib.library_path().with_name(partslib.PREVIOUS_NAME)
     assert partslib.read_library_file(previous) == lib
     raw = json.loads(partslib.library_path().read_text(encoding="utf-8"))
-    assert raw["format"] == "ventset-clinic-parts" and raw["schema_version"] == 1
+    assert raw["format"] == "ventset-clinic-parts" and raw["schema_version"] == 2
 
 
 def test_missing_library_is_empty_but_a_damaged_one_is_refused(tmp_path):
@@ -90,7 +90,7 @@ def _doc(**change) -> dict:
 
 @pytest.mark.parametrize("doc, reason", [
     (_doc(format="other"), "not a ventset clinic parts file"),
-    (_doc(schema_version=2), "newer ventset"),
+    (_doc(schema_version=3), "newer ventset"),
     (_doc(schema_version="1"), "whole number"),
     (_doc(schema_version=0), "not one any ventset has written"),
     (_doc(extra=1), "'extra' is not part of"),

@@ -38,7 +38,8 @@ def register(sub, add_request_options) -> dict:
                         help="print the plan as stored in the file (JSON) instead of planning its inputs again")
     p_show.add_argument("--summary", action="store_true", help="print the short summary for the clinical record")
 
-    p_cp = sub.add_parser("clinic-parts", help="the clinic's own measured parts and circuit presets")
+    p_cp = sub.add_parser("clinic-parts", help="the clinic's own measured parts and circuit presets (its "
+                                               "ventilators: 'ventset machines'); export and import carry all three")
     cp = p_cp.add_subparsers(dest="clinic_command", required=True)
     p_list = cp.add_parser("list", help="list the clinic's parts and presets")
     p_list.add_argument("--json", action="store_true")
@@ -190,7 +191,8 @@ def _cmd_clinic_parts(ns: argparse.Namespace) -> int:
         _say(f"removed preset '{ns.name}'")
     elif cmd == "export":
         partslib.write_library_file(lib, ns.file, private=False)
-        _say(f"exported {len(lib.parts)} parts and {len(lib.presets)} presets to {ns.file}")
+        _say(f"exported {len(lib.parts)} parts, {len(lib.presets)} presets and {len(lib.machines)} ventilators to "
+             f"{ns.file}")
     elif cmd == "import":
         report = partslib.import_file(ns.file, ns.on_conflict)
         for line in report.lines():
@@ -208,7 +210,7 @@ def _list(ns: argparse.Namespace, lib: partslib.ClinicLibrary) -> int:
                                 for r in rows if r.origin == "catalogue"]
         print(json.dumps(doc, indent=2, ensure_ascii=False))
         return 0
-    if not lib.parts and not lib.presets:
+    if not lib.parts and not lib.presets and not lib.machines:
         print(f"The clinic library is empty ({partslib.library_path()}). Add a part with "
               "'ventset clinic-parts add NAME VOLUME'.")
     for r in rows:
@@ -217,4 +219,6 @@ def _list(ns: argparse.Namespace, lib: partslib.ClinicLibrary) -> int:
         print(f"{'preset':<10}{s.name[:34]:<35}{s.summary()}")
         for p in s.parts:
             print(f"{'':<12}{p.name} {p.volume_ml:g} mL [{p.source}]")
+    for m in lib.machines:
+        print(f"{'ventilator':<10}{m.name[:34]:<35}{m.summary()}  ('ventset machines' shows its controls)")
     return 0

@@ -63,8 +63,9 @@ def add_request_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--situation", action="append", default=[], metavar="KEY",
                    help="the patient's situation (surgery, disease, physiology) such as laparoscopy or raised-icp; "
                         "repeat for several; 'ventset situations' lists them with their effects")
-    p.add_argument("--machine", metavar="KEY",
-                   help="a ventilator class (see 'ventset machines'): the plan is also dialled on its controls")
+    p.add_argument("--machine", metavar="KEY_OR_NAME",
+                   help="a ventilator class or one of the clinic's machines (see 'ventset machines'): the plan is "
+                        "also dialled on its controls")
     for spec in FIELDS.values():
         p.add_argument(f"--{spec.key}", *OPTION_ALIASES.get(spec.key, ()), dest=dest(spec.key), metavar="VALUE",
                        help=f"{spec.help} [{_unit_help(spec.unit)}]".replace("%", "%%"))
@@ -100,7 +101,8 @@ def request_from_args(ns: argparse.Namespace, library) -> Request:
 
 
 def _machine_key(text: str, errors: list[InputError]) -> str:
-    """The class key for what was typed after --machine (a key, a label or a unique part of one)."""
+    """The class key, or the clinic machine's name, for what was typed after --machine (a key, a label, a name or
+    a unique part of one)."""
     from ventset.machines.stage import find_machine
 
     try:

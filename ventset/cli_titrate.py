@@ -39,6 +39,10 @@ def register(sub, add_request_options) -> dict:
                    help="end-tidal CO2; used with the gradient when no PaCO2 is given, else to measure the gradient")
     p.add_argument("--measured-pao2", metavar="VALUE", help="arterial PO2, for the oxygenation check")
     p.add_argument("--measured-spo2", metavar="VALUE", help="pulse-oximeter saturation [%%]")
+    p.add_argument("--dial", action="append", default=[], metavar="CONTROL=VALUE",
+                   help="with --machine: a setting in use read on the machine's control, in the unit 'ventset "
+                        "machines' shows (e.g. 'tidal_volume=250'); repeat for each control, instead of "
+                        "--tidal-volume and --rate. The proposal is always given as the machine's controls")
     p.add_argument("--prefer", choices=("rate", "tidal-volume", "both"), default="rate",
                    help="what to change: rate (default; keeps VT), tidal-volume (keeps the rate), or both")
     p.add_argument("--json", action="store_true", help="print one JSON object")
@@ -79,10 +83,12 @@ def _renamed(err: InputError, options: dict[str, str]) -> InputError:
 
 def _cmd_adjust(ns: argparse.Namespace) -> int:
     from ventset.library import load_library
-    from ventset.titrate import Measurement, adjust, adjustment_to_dict, adjustment_to_text
+    from ventset.titrate import Measurement
 
     lib = load_library()
     request = request_from_args(ns, lib)
+    if ns.dial:
+        return _adjust_from_dials(ns, request, lib)
     rate = request.strategy.rate_per_min
     if rate is None:
         raise InputError("--rate", "", "is required: the rate in use (e.g. '--rate 12')")
@@ -101,6 +107,43 @@ def _cmd_adjust(ns: argparse.Namespace) -> int:
         raise InputError("--measured-paco2", "", "is required (or give --measured-etco2)")
     m = Measurement(0.0, vt, rate, paco2, etco2, _value("pao2", ns.measured_pao2, "--measured-pao2"),
                     _value("spo2", ns.measured_spo2, "--measured-spo2"), request.targets.fio2)
+    return _run_adjust(ns, request, m, lib)
+
+
+def _adjust_from_dials(ns: argparse.Namespace, request, lib) -> int:
+    """The settings in use as the machine's controls (``--dial``): the breath they deliver is what is read."""
+    from ventset.machines.stage import find_machine
+    from ventset.titrate import Measurement
+    from ventset.titrate.dials import settings_from_dials
+
+    if not request.circuit.machine:
+        raise InputError("--dial", ns.dial[0], "needs --machine: the machine whose controls these are")
+    for option, given in (("--tidal-volume", ns.tidal_volume), ("--rate", request.strategy.rate_per_min),
+                          ("--vt-per-kg", request.strategy.vt_ml_kg)):
+        if given is not None:
+            raise InputError(option, given, "give the settings in use once: as --dial on the machine's controls, "
+                                            "or as --tidal-volume and --rate, not both")
+    pairs = []
+    for item in ns.dial:
+        control, sep, value = item.partition("=")
+        if not sep or not control.strip():
+            raise InputError("--dial", item, "needs CONTROL=VALUE, e.g. 'tidal_volume=250'")
+        pairs.append((control.strip(), value))
+    dials = settings_from_dials(request, find_machine(request.circuit.machine), pairs, lib)
+    assert dials.tidal_volume_ml is not None and dials.rate_per_min is not None
+    paco2 = _value("paco2", ns.measured_paco2, "--measured-paco2")
+    etco2 = _value("etco2", ns.measured_etco2, "--measured-etco2")
+    if paco2 is None and etco2 is None:
+        raise InputError("--measured-paco2", "", "is required (or give --measured-etco2)")
+    m = Measurement(0.0, dials.tidal_volume_ml, dials.rate_per_min, paco2, etco2,
+                    _value("pao2", ns.measured_pao2, "--measured-pao2"),
+                    _value("spo2", ns.measured_spo2, "--measured-spo2"), request.targets.fio2, dials=dials)
+    return _run_adjust(ns, request, m, lib)
+
+
+def _run_adjust(ns: argparse.Namespace, request, m, lib) -> int:
+    from ventset.titrate import adjust, adjustment_to_dict, adjustment_to_text
+
     try:
         result = adjust(request, m, ns.prefer.replace("-", "_"), lib)
     except InputError as err:

@@ -1,4 +1,4 @@
-"""The clinic's own parts library: measured apparatus parts and named circuit presets.
+"""The clinic's own parts library: measured apparatus parts, named circuit presets and the clinic's machines.
 
 Stored as plain JSON in the user data folder (``clinic-parts.json``, docs/case-format.md),
 exported and imported as the same file to share between the clinic's machines. Importing
@@ -19,9 +19,10 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ventset import storage
-from ventset.cases import now_iso
+from ventset.case_model import now_iso
 from ventset.errors import InputError, visible
 from ventset.model import ApparatusPart
+from ventset.partslib_machines import ClinicMachine, ControlRange, machine_from_dict, machine_to_dict
 from ventset.partslib_merge import Conflict, MergeReport, merge
 from ventset.partslib_model import (
     CONFLICT_CHOICES,
@@ -47,7 +48,8 @@ __all__ = ["FORMAT", "SCHEMA_VERSION", "FILE_NAME", "PREVIOUS_NAME", "MAX_BYTES"
            "MAX_NOTE", "CONFLICT_CHOICES", "ClinicLibraryError", "ClinicLibrarySaveError", "name_key", "ClinicPart",
            "CircuitPreset", "ClinicLibrary", "library_to_dict", "library_from_dict", "library_path",
            "read_library_file", "load_clinic_library", "write_library_file", "save_clinic_library", "Conflict",
-           "MergeReport", "merge", "import_file", "PartRow", "all_parts", "part_from_text", "clinic_part"]
+           "MergeReport", "merge", "import_file", "PartRow", "all_parts", "part_from_text", "clinic_part",
+           "clinic_machines", "ClinicMachine", "ControlRange", "MIGRATIONS"]
 
 
 # --------------------------------------------------------------------------------------------
@@ -55,7 +57,7 @@ __all__ = ["FORMAT", "SCHEMA_VERSION", "FILE_NAME", "PREVIOUS_NAME", "MAX_BYTES"
 # --------------------------------------------------------------------------------------------
 
 def library_to_dict(lib: ClinicLibrary) -> dict:
-    """The JSON layout of schema 1 (docs/case-format.md)."""
+    """The JSON layout of the current schema (docs/case-format.md)."""
     return {
         "format": FORMAT,
         "schema_version": SCHEMA_VERSION,
@@ -67,7 +69,20 @@ def library_to_dict(lib: ClinicLibrary) -> dict:
                                                for p in s.parts],
                      "compressible_ml_cmh2o": s.compressible_ml_cmh2o, "circuit_type": s.circuit_type,
                      "note": s.note} for s in lib.presets],
+        "machines": [machine_to_dict(m) for m in lib.machines],
     }
+
+
+def _v1_to_v2(data: dict) -> dict:
+    """Schema 1 had no machines: the same file with an empty list."""
+    if "machines" in data:
+        raise ValueError("field 'machines' is not part of clinic parts schema 1")
+    return {**data, "schema_version": 2, "machines": []}
+
+
+# MIGRATIONS[n] turns a schema-n clinic library dict into schema n+1 (in memory; the file is written in the
+# current schema at the next save, the version it replaces kept as clinic-parts.previous.json).
+MIGRATIONS = {1: _v1_to_v2}
 
 
 def library_from_dict(data: object) -> ClinicLibrary:
@@ -80,12 +95,15 @@ def library_from_dict(data: object) -> ClinicLibrary:
     if version > SCHEMA_VERSION:
         raise ValueError(f"it was written by a newer ventset (clinic parts schema {version}; this version reads "
                          f"up to {SCHEMA_VERSION}); update ventset to use it")
-    if version != SCHEMA_VERSION:
+    if version != SCHEMA_VERSION and version not in MIGRATIONS:
         raise ValueError(f"clinic parts schema {version} is not one any ventset has written")
-    unknown = sorted(set(data) - {"format", "schema_version", "clinic", "saved_at", "parts", "presets"})
+    while version < SCHEMA_VERSION:
+        data = MIGRATIONS[version](data)
+        version += 1
+    unknown = sorted(set(data) - {"format", "schema_version", "clinic", "saved_at", "parts", "presets", "machines"})
     if unknown:
         raise ValueError(f"field '{unknown[0]}' is not part of clinic parts schema {SCHEMA_VERSION}")
-    for key in ("parts", "presets"):
+    for key in ("parts", "presets", "machines"):
         if not isinstance(data.get(key, []), list):
             raise ValueError(f"field '{key}' must be a list")
     lib = ClinicLibrary(clinic=_entry(lambda: clean_text(data.get("clinic", ""), "clinic"), "clinic"))
@@ -120,6 +138,11 @@ def library_from_dict(data: object) -> ClinicLibrary:
         if lib.preset(preset.name) is not None:
             raise ValueError(f"{where}: the preset name '{preset.name}' appears twice")
         lib = lib.with_preset(preset)
+    for i, m in enumerate(data.get("machines", [])):
+        machine = machine_from_dict(m, f"machines[{i}]")
+        if lib.machine(machine.name) is not None:
+            raise ValueError(f"machines[{i}]: the machine name '{machine.name}' appears twice")
+        lib = _entry(lambda machine=machine, lib=lib: lib.with_machine(machine), f"machines[{i}]")
     return lib
 
 
@@ -201,12 +224,13 @@ def save_clinic_library(lib: ClinicLibrary, path: os.PathLike | str | None = Non
 # import
 # --------------------------------------------------------------------------------------------
 
-def import_file(path: os.PathLike | str, on_conflict: str = "keep", target: os.PathLike | str | None = None) \
-        -> MergeReport:
-    """Merge a shared file into this machine's library and save it; returns what happened."""
+def import_file(path: os.PathLike | str, on_conflict: str = "keep", target: os.PathLike | str | None = None,
+                kinds: tuple[str, ...] = ("part", "preset", "machine")) -> MergeReport:
+    """Merge a shared file (its ``kinds`` of entry) into this computer's library and save it; returns what
+    happened."""
     incoming = read_library_file(path)
     local = load_clinic_library(target)
-    merged, report = merge(local, incoming, on_conflict)
+    merged, report = merge(local, incoming, on_conflict, kinds)
     if merged != local:
         save_clinic_library(merged, target)
     return report
@@ -273,6 +297,26 @@ def part_from_text(item: str, library, clinic: Callable[[str], ApparatusPart | N
         return found
     raise InputError("apparatus", item, "is not a catalogue or clinic part; give a volume, e.g. 'hme=12 mL' "
                                         "(see 'ventset parts', 'ventset clinic-parts list')")
+
+
+_MACHINES_READ: dict[str, object] = {}  # the last clinic machines read, by the file's identity (see below)
+
+
+def clinic_machines(path: os.PathLike | str | None = None) -> tuple[ClinicMachine, ...]:
+    """This computer's clinic machines; the file is read again only when it changed (its inode, size or time), so
+    planning with a clinic machine on every edit does not re-read it. Raises ClinicLibraryError when damaged."""
+    target = Path(path) if path is not None else library_path()
+    try:
+        st = target.stat()
+    except FileNotFoundError:
+        return ()
+    except OSError as exc:
+        raise ClinicLibraryError(target, storage.os_reason(exc)) from None
+    identity = (str(target), st.st_ino, st.st_size, st.st_mtime_ns)
+    if _MACHINES_READ.get("identity") != identity:
+        machines = read_library_file(target).machines
+        _MACHINES_READ.update(identity=identity, machines=machines)
+    return _MACHINES_READ["machines"]  # type: ignore[return-value]
 
 
 def clinic_part(name: str) -> ApparatusPart | None:

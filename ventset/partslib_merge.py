@@ -4,7 +4,9 @@ and a name that exists with different values a reported conflict, never overwrit
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, replace
+from typing import Any
 
 from ventset.errors import InputError
 from ventset.partslib_model import CONFLICT_CHOICES, MAX_NAME, ClinicLibrary, name_key
@@ -41,6 +43,9 @@ class MergeReport:
         return out
 
 
+SHOWN_KIND = {"part": "part", "preset": "preset", "machine": "ventilator"}  # "machine" alone could be the computer
+
+
 def _free_name(exists, name: str) -> str:
     n = 1
     while True:
@@ -52,15 +57,19 @@ def _free_name(exists, name: str) -> str:
 
 def _merge_entries(lib: ClinicLibrary, entries, kind: str, on_conflict: str, added: list, same: list,
                    conflicts: list) -> ClinicLibrary:
-    """Merge one kind of entry ('part' or 'preset') into ``lib``; appends to the report lists."""
+    """Merge one kind of entry ('part', 'preset' or 'machine') into ``lib``; appends to the report lists."""
     for entry in entries:
-        find, add = (lib.part, lib.with_part) if kind == "part" else (lib.preset, lib.with_preset)
+        pairs: dict[str, tuple[Callable[..., Any], Callable[..., ClinicLibrary]]] = {
+            "part": (lib.part, lib.with_part), "preset": (lib.preset, lib.with_preset),
+            "machine": (lib.machine, lib.with_machine)}
+        find, add = pairs[kind]
         mine = find(entry.name)
+        word = SHOWN_KIND[kind]
         if mine is None:
             lib = add(entry)
-            added.append(f"{kind} '{entry.name}'")
+            added.append(f"{word} '{entry.name}'")
         elif replace(mine, name=name_key(mine.name)) == replace(entry, name=name_key(entry.name)):
-            same.append(f"{kind} '{entry.name}'")
+            same.append(f"{word} '{entry.name}'")
         else:
             if on_conflict == "rename":
                 new = _free_name(lambda n, find=find: find(n) is not None, entry.name)
@@ -71,21 +80,24 @@ def _merge_entries(lib: ClinicLibrary, entries, kind: str, on_conflict: str, add
                 what = "replaced by the file's entry (as chosen)"
             else:
                 what = "kept this machine's entry"
-            conflicts.append(Conflict(kind, entry.name, mine.summary(), entry.summary(), what))
+            conflicts.append(Conflict(word, entry.name, mine.summary(), entry.summary(), what))
     return lib
 
 
-def merge(local: ClinicLibrary, incoming: ClinicLibrary, on_conflict: str = "keep") -> tuple[ClinicLibrary,
-                                                                                           MergeReport]:
+def merge(local: ClinicLibrary, incoming: ClinicLibrary, on_conflict: str = "keep",
+          kinds: tuple[str, ...] = ("part", "preset", "machine")) -> tuple[ClinicLibrary, MergeReport]:
     """Merge ``incoming`` into ``local``. Conflicts: 'keep' the local entry (default), 'rename' the
-    incoming one to "<name> (imported)", or 'replace' the local one (only when the user chose it)."""
+    incoming one to "<name> (imported)", or 'replace' the local one (only when the user chose it). ``kinds``:
+    which entries to merge (``ventset machines import`` merges only the machines)."""
     if on_conflict not in CONFLICT_CHOICES:
         raise InputError("on-conflict", on_conflict, f"must be one of {', '.join(CONFLICT_CHOICES)}")
     added: list[str] = []
     same: list[str] = []
     conflicts: list[Conflict] = []
-    lib = _merge_entries(local, incoming.parts, "part", on_conflict, added, same, conflicts)
-    lib = _merge_entries(lib, incoming.presets, "preset", on_conflict, added, same, conflicts)
+    lib = local
+    for kind, entries in (("part", incoming.parts), ("preset", incoming.presets), ("machine", incoming.machines)):
+        if kind in kinds:
+            lib = _merge_entries(lib, entries, kind, on_conflict, added, same, conflicts)
     if not lib.clinic and incoming.clinic:
         lib = replace(lib, clinic=incoming.clinic)
     return lib, MergeReport(tuple(added), tuple(same), tuple(conflicts))

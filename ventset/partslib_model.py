@@ -10,14 +10,18 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, replace
 from datetime import date, timedelta
+from typing import TYPE_CHECKING
 
 from ventset import storage
 from ventset.errors import InputError, register_labels
 from ventset.model import ApparatusPart, Circuit
 from ventset.textpolicy import MAX_CLINIC_ENTRIES, MAX_PRESET_PARTS, TEXT_FIELDS, check_count, check_text
 
+if TYPE_CHECKING:
+    from ventset.partslib_machines import ClinicMachine
+
 FORMAT = "ventset-clinic-parts"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2  # 2 added the clinic's machines; schema 1 files are read (ventset.partslib.MIGRATIONS)
 FILE_NAME = "clinic-parts.json"
 PREVIOUS_NAME = "clinic-parts.previous.json"
 MAX_BYTES = 2_000_000
@@ -190,11 +194,28 @@ class CircuitPreset:
 
 @dataclass(frozen=True)
 class ClinicLibrary:
-    """The clinic's parts and presets (names unique regardless of case and spacing)."""
+    """The clinic's parts, presets and machines (names unique regardless of case and spacing)."""
 
     parts: tuple[ClinicPart, ...] = ()
     presets: tuple[CircuitPreset, ...] = ()
     clinic: str = ""
+    machines: tuple[ClinicMachine, ...] = ()
+
+    def machine(self, name: str) -> ClinicMachine | None:
+        return next((m for m in self.machines if name_key(m.name) == name_key(name)), None)
+
+    def with_machine(self, machine: ClinicMachine, replace_existing: bool = False) -> ClinicLibrary:
+        """Add ``machine``; one of the same name is an InputError unless ``replace_existing``."""
+        if self.machine(machine.name) is not None and not replace_existing:
+            raise InputError("machine-name", machine.name, "is already in the clinic library; edit or remove it")
+        kept = tuple(m for m in self.machines if name_key(m.name) != name_key(machine.name))
+        check_count("machine-name", len(kept) + 1, MAX_CLINIC_ENTRIES, "machines", label="Clinic machines")
+        return replace(self, machines=tuple(sorted((*kept, machine), key=lambda m: name_key(m.name))))
+
+    def without_machine(self, name: str) -> ClinicLibrary:
+        if self.machine(name) is None:
+            raise InputError("machine-name", name, "is not one of the clinic's machines")
+        return replace(self, machines=tuple(m for m in self.machines if name_key(m.name) != name_key(name)))
 
     def part(self, name: str) -> ClinicPart | None:
         return next((p for p in self.parts if name_key(p.name) == name_key(name)), None)

@@ -44,6 +44,7 @@ TEXT_FIELDS: dict[str, TextSpec] = {t.key: t for t in (
     TextSpec("clinic", "Clinic", 80),
     TextSpec("clinic-part-name", "Part name", 80),
     TextSpec("preset-name", "Preset name", 80),
+    TextSpec("machine-name", "Machine name", 80),
     TextSpec("part-note", "Note", 500),
     TextSpec("measured-by", "Measured by", 80),
     TextSpec("case-note", "Case note", 20_000, multiline=True),

@@ -644,16 +644,12 @@ class InputForm(QWidget):
 
     def _machine_row(self, box: QGroupBox, grid: QGridLayout) -> None:
         """The ventilator class the plan is also dialled on (ventset.machines); none: ideal settings only."""
-        from ventset.machines.data import load_machines
+        from ventset.gui import machine_choice
 
         self.machine_combo = QComboBox(box)
         self.machine_combo.setObjectName("machine")
         compact(self.machine_combo)
-        self.machine_combo.addItem("No ventilator chosen (ideal settings only)", "")
-        for m in load_machines().classes.values():
-            self.machine_combo.addItem(m.label, m.key)
-            self.machine_combo.setItemData(self.machine_combo.count() - 1, plain_tip(m.description),
-                                           Qt.ItemDataRole.ToolTipRole)
+        machine_choice.fill(self.machine_combo)
         self._label_row(box, grid, "Ventilator", self.machine_combo,
                         "The kind of ventilator in use: the plan is also given as the settings its controls can "
                         "be turned to, and re-evaluated as dialled.")
@@ -863,7 +859,9 @@ class InputForm(QWidget):
         elif k == "circuit":
             self.circuit_combo.setCurrentIndex(max(0, self.circuit_combo.findData(s[k])))
         elif k == "machine":
-            self.machine_combo.setCurrentIndex(max(0, self.machine_combo.findData(s[k])))
+            from ventset.gui import machine_choice
+
+            machine_choice.select(self.machine_combo, s[k] or "")
         elif k == "age":
             self.age_combo.setCurrentIndex(max(0, self.age_combo.findData(s[k])))
         elif k == "state":

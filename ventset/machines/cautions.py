@@ -135,7 +135,12 @@ def supply(ms: MachineSettings, plan: Plan, th: dict[str, float]) -> list[Cautio
     o = ms.oxygen
     words = {"machine": ms.machine.label, "supply": o.supply_label}
     found = []
-    if o.driving_gas_l_min > 0 and o.fresh_gas_l_min > 0:
+    if o.driving_gas_l_min > 0 and o.driving_oxygen_l_min == 0:
+        found.append(caution("info", "MACHINE_DRIVING_AIR",
+                             "{machine}: driven by air, about {driving_l_min}, not drawn from the oxygen supply; "
+                             "keep the air supply (compressor or cylinder) running for the whole anaesthetic.",
+                             words, driving_l_min=o.driving_gas_l_min))
+    elif o.driving_gas_l_min > 0 and o.fresh_gas_l_min > 0:
         found.append(caution("info", "MACHINE_DRIVING_GAS",
                              "{machine}: uses about {driving_l_min} of driving gas besides {fresh_l_min} of fresh "
                              "gas, so {supply} lasts about {supply_min}, against {fresh_only_min} on fresh gas alone.",

@@ -113,9 +113,30 @@ class MachineClass:
     usual_supply: str
     controls: tuple[Control, ...]
     source: str
+    # A clinic's own machine (ventset.partslib_machines) is a class with the clinic's ranges: ``class_key`` names
+    # the class it is made from ("" for a class itself), ``key`` and ``label`` are the clinic's name.
+    class_key: str = ""
+    class_label: str = ""
+    driving_gas: str = "oxygen"  # what drives a gas-driven machine: "oxygen" (from the supply) or "air"
+    compressible_ml_cmh2o: Sourced | None = None  # measured for the machine and its hose; None: internal gas / PB
+    note: str = ""
 
     def control(self, kind: str) -> Control | None:
         return next((c for c in self.controls if c.kind == kind), None)
+
+    @property
+    def class_of(self) -> str:
+        """The key of the class: its own key, or for a clinic machine the class it is made from."""
+        return self.class_key or self.key
+
+    @property
+    def is_clinic(self) -> bool:
+        return bool(self.class_key)
+
+    @property
+    def oxygen_driven(self) -> bool:
+        """True when driving gas is drawn from the oxygen supply."""
+        return self.drive == "gas" and self.driving_gas == "oxygen"
 
     @property
     def sizing(self) -> str:

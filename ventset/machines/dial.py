@@ -51,12 +51,19 @@ class Rig:
                        timing=TimingRule(ti_s, None, t.typical_ti_s, t.species_ie, t.pause_s))
 
 
+def machine_compressible_ml_cmh2o(machine: MachineClass, barometric_mmhg: float) -> float:
+    """The machine's own compressible volume: as measured for a clinic machine, else its internal gas by Boyle."""
+    if machine.compressible_ml_cmh2o is not None:
+        return machine.compressible_ml_cmh2o.value
+    return physics.compressible_ml_cmh2o(machine.internal_gas_ml.value, barometric_mmhg)
+
+
 def make_rig(plan: Plan, machine: MachineClass) -> Rig:
     """The rig of ``plan`` (made by ventset.planner.plan) on ``machine``."""
     s = plan.subject
     if s is None:
         raise ValueError("a machine needs a plan made by ventset.planner.plan")
-    own = physics.compressible_ml_cmh2o(machine.internal_gas_ml.value, plan.oxygen.barometric_mmhg)
+    own = machine_compressible_ml_cmh2o(machine, plan.oxygen.barometric_mmhg)
     circuit = 0.0 if machine.own_gas_path else s.compressible_ml_cmh2o
     coupled = machine.coupled and not machine.own_gas_path
     has_peep = machine.control("peep") is not None or machine.peep_without_control == "add_on_valve"

@@ -14,11 +14,17 @@ def control_to_dict(c: Control) -> dict:
 
 
 def class_to_dict(m: MachineClass) -> dict:
-    """One class for ``ventset machines --json``."""
-    return {"key": m.key, "name": m.label, "class": m.key, "breath": m.breath, "description": m.description,
-            "drive": m.drive, "driving_gas_ve_multiple": m.driving_gas_ve_multiple.value,
-            "fresh_gas_coupled": m.coupled, "internal_gas_ml": m.internal_gas_ml.value,
-            "controls": [control_to_dict(c) for c in m.controls]}
+    """One class (or clinic machine, "origin": "clinic") for ``ventset machines --json``."""
+    out = {"key": m.key, "name": m.label, "class": m.class_of, "origin": "clinic" if m.is_clinic else "class",
+           "breath": m.breath, "description": m.description, "drive": m.drive,
+           "driving_gas": m.driving_gas if m.drive == "gas" else None,
+           "driving_gas_ve_multiple": m.driving_gas_ve_multiple.value, "fresh_gas_coupled": m.coupled,
+           "internal_gas_ml": m.internal_gas_ml.value,
+           "compressible_ml_cmh2o": m.compressible_ml_cmh2o.value if m.compressible_ml_cmh2o else None,
+           "controls": [control_to_dict(c) for c in m.controls]}
+    if m.is_clinic:
+        out["note"] = m.note
+    return out
 
 
 def machine_to_dict(ms: MachineSettings, number: Callable[[float], object]) -> dict:
@@ -27,7 +33,8 @@ def machine_to_dict(ms: MachineSettings, number: Callable[[float], object]) -> d
     m, ev, dv, o = ms.machine, ms.evaluation, ms.delivery, ms.oxygen
     _num = number
     return {
-        "key": m.key, "name": m.label, "class": m.key, "breath": m.breath,
+        "key": m.key, "name": m.label, "class": m.class_of, "origin": "clinic" if m.is_clinic else "class",
+        "breath": m.breath,
         "controls": [{"name": s.control.label, "control": s.control.kind, "value": s.value, "unit": s.control.unit,
                       "min": s.control.min, "max": s.control.max, "step": s.control.step, "in_range": s.in_range,
                       "ideal": _num(s.ideal)} for s in ms.settings],
@@ -41,6 +48,7 @@ def machine_to_dict(ms: MachineSettings, number: Callable[[float], object]) -> d
         "expected_paco2_mmhg": _num(ev.paco2_mmhg), "expected_etco2_mmhg": _num(ev.etco2_mmhg),
         "ideal_paco2_mmhg": _num(ms.aim_paco2_mmhg),
         "fresh_gas_l_min": _num(o.fresh_gas_l_min), "driving_gas_l_min": _num(o.driving_gas_l_min),
+        "driving_gas": o.driving_gas if o.driving_gas_l_min > 0 else None,
         "oxygen_use_l_min": _num(o.use_l_min), "supply": o.supply_key, "supply_l": _num(o.content_l),
         "supply_entered": o.entered, "supply_minutes": _num(o.supply_min), "planned_minutes": _num(o.planned_min),
     }

@@ -8,8 +8,9 @@ supply are added, and the machine's cautions are merged into the plan's.
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import replace
+from typing import TYPE_CHECKING
 
 from ventset.errors import InputError
 from ventset.library import Library
@@ -18,19 +19,56 @@ from ventset.machines.data import MachineClass, Machines, load_machines
 from ventset.machines.dial import Delivery, dial, make_rig
 from ventset.machines.result import MachineSettings
 from ventset.machines.supply import oxygen_use
-from ventset.model import Plan
+from ventset.model import Assumption, Plan
 from ventset.stages.trail import note
 
+if TYPE_CHECKING:
+    from ventset.partslib_machines import ClinicMachine
 
-def find_machine(key: str, machines: Machines | None = None) -> MachineClass:
-    """The class for a key or label (or a unique part of one); InputError naming 'machine' otherwise."""
-    hits = (machines or load_machines()).matches(key)
+
+def find_machine(key: str, machines: Machines | None = None, clinic: Sequence[ClinicMachine] | None = None
+                 ) -> MachineClass:
+    """The class or clinic machine for ``key``: a class by key or label, else a clinic machine by name (case and
+    spacing aside), else a unique part of either; InputError naming 'machine' otherwise. ``clinic`` defaults to
+    this computer's clinic machines, read only when ``key`` is not a class (a stored plan names a class by key)."""
+    mlib = machines or load_machines()
+    exact = [m for m in mlib.matches(key) if key.strip().lower() in (m.key, m.label.lower())]
+    if exact:
+        return exact[0]
+    own, unread = _clinic(clinic)
+    from ventset.partslib_model import name_key
+
+    mine = [m for m in own if name_key(m.name) == name_key(key)]
+    if mine:
+        return mine[0].as_machine(mlib)
+    part = name_key(key)
+    classes = [m.key for m in mlib.matches(key)]
+    names = [m.name for m in own if part and part in name_key(m.name)]
+    hits = [*classes, *names]
     if len(hits) > 1:
-        raise InputError("machine", key, f"matches {len(hits)} ventilator classes ({', '.join(m.key for m in hits)}); "
-                                         "give one key")
-    if not hits:
-        raise InputError("machine", key, "is not a ventilator class; run 'ventset machines' for the list")
-    return hits[0]
+        said = [f"{len(classes)} ventilator classes ({', '.join(classes)})"] if classes else []
+        said += [f"{len(names)} of the clinic's machines ({', '.join(names)})"] if names else []
+        raise InputError("machine", key, f"matches {' and '.join(said)}; give one key or name")
+    if hits:
+        return find_machine(hits[0], mlib, own)
+    if unread:
+        raise InputError("machine", key, f"is not a ventilator class, and the clinic's machines cannot be read "
+                                         f"({unread})")
+    raise InputError("machine", key, "is not a ventilator class or one of the clinic's machines; run 'ventset "
+                                     "machines' for the list")
+
+
+def _clinic(clinic: Sequence[ClinicMachine] | None) -> tuple[Sequence[ClinicMachine], str]:
+    """The clinic machines given, else this computer's; and why they could not be read ('' when they could)."""
+    if clinic is not None:
+        return clinic, ""
+    from ventset.errors import VentsetError
+    from ventset.partslib import clinic_machines
+
+    try:
+        return clinic_machines(), ""
+    except VentsetError as err:
+        return (), str(err)
 
 
 # ventset.planner.plan_at, handed in by the planner (this module does not import the planner: no cycle).
@@ -59,9 +97,7 @@ def on_machine(plan: Plan, machine: MachineClass, library: Library, plan_at: Eva
     mlib = machines or load_machines()
     rig = make_rig(plan, machine)
     d = dial(plan, rig)
-    notes = (note("machine_compressible", f"Gas inside the machine ({machine.label})", machine.internal_gas_ml.value,
-                  "mL", f"{machine.internal_gas_ml.source}; compresses by V/PB (Boyle): "
-                  f"{rig.machine_compressible_ml_cmh2o:.3g} mL/cmH2O"),
+    notes = (_compressible_note(machine, rig.machine_compressible_ml_cmh2o),
              note("machine_coupling", "Fresh gas added to the breath", "yes" if machine.coupled else "no", "",
                   machine.coupling_source))
     o2 = oxygen_use(plan, machine, d.delivery, mlib)
@@ -69,6 +105,15 @@ def on_machine(plan: Plan, machine: MachineClass, library: Library, plan_at: Eva
                          d.aim_paco2_mmhg, rig, o2, assumptions=(*notes, *o2.assumptions))
     th = {k: v.value for k, v in mlib.thresholds.items()}
     return replace(ms, cautions=tuple(machine_cautions(ms, plan, th)))
+
+
+def _compressible_note(machine: MachineClass, ml_cmh2o: float) -> Assumption:
+    if machine.compressible_ml_cmh2o is not None:
+        return note("machine_compressible", f"Compressible volume of the machine ({machine.label})", ml_cmh2o,
+                    "mL/cmH2O", machine.compressible_ml_cmh2o.source)
+    gas = machine.internal_gas_ml
+    return note("machine_compressible", f"Gas inside the machine ({machine.label})", gas.value, "mL",
+                f"{gas.source}; compresses by V/PB (Boyle): {ml_cmh2o:.3g} mL/cmH2O")
 
 
 def machine_stage(plan: Plan, library: Library, plan_at: EvaluateAt) -> Plan:
@@ -82,12 +127,12 @@ def machine_stage(plan: Plan, library: Library, plan_at: EvaluateAt) -> Plan:
     return replace(plan, machine=ms, cautions=sort_cautions([*plan.cautions, *ms.cautions]))
 
 
-def rank_classes(plan: Plan, library: Library, plan_at: EvaluateAt, machines: Machines | None = None
-                 ) -> list[MachineSettings]:
-    """Every class with ``plan`` dialled on it, best first: fewest dangers, then fewest cautions from the machine,
-    then the smallest move of the expected PaCO2 from the ideal."""
+def rank_classes(plan: Plan, library: Library, plan_at: EvaluateAt, machines: Machines | None = None,
+                 clinic: Sequence[MachineClass] = ()) -> list[MachineSettings]:
+    """Every class (and the clinic's machines, ``clinic``) with ``plan`` dialled on it, best first: fewest
+    dangers, then fewest cautions from the machine, then the smallest move of the expected PaCO2 from the ideal."""
     mlib = machines or load_machines()
-    found = [on_machine(plan, m, library, plan_at, mlib) for m in mlib.classes.values()]
+    found = [on_machine(plan, m, library, plan_at, mlib) for m in (*clinic, *mlib.classes.values())]
 
     def key(ms: MachineSettings) -> tuple[int, int, float]:
         sev = [c.severity for c in ms.cautions]

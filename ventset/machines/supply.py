@@ -1,4 +1,4 @@
-"""Oxygen use on a machine (fresh gas + driving gas) and how long the supply lasts.
+"""Oxygen use on a machine (fresh gas + driving gas, when the driving gas is oxygen) and how long the supply lasts.
 
 The fresh gas is the plan's maintenance flow, counted as oxygen (the supply is not overstated when part of it is
 air); gas sampled and not returned is already inside it (the plan's fresh gas is at least VO2 + sampling). A
@@ -29,10 +29,16 @@ class OxygenUse:
     entered: bool  # the content was entered (else a full cylinder of the class's usual size)
     planned_min: float
     assumptions: tuple[Assumption, ...]
+    driving_gas: str = "oxygen"  # what the driving gas is: "oxygen" (drawn from the supply) or "air"
+
+    @property
+    def driving_oxygen_l_min(self) -> float:
+        """Driving gas drawn from the oxygen supply (none when the machine is driven by air)."""
+        return self.driving_gas_l_min if self.driving_gas == "oxygen" else 0.0
 
     @property
     def use_l_min(self) -> float:
-        return self.fresh_gas_l_min + self.driving_gas_l_min
+        return self.fresh_gas_l_min + self.driving_oxygen_l_min
 
     @property
     def supply_min(self) -> float:
@@ -65,4 +71,5 @@ def oxygen_use(plan: Plan, m: MachineClass, dv: Delivery, machines: Machines) ->
         planned = default.value
         notes.append(note("machine_duration", "Planned duration", planned, "min", default.source))
     label = f"a full {supply.label[0].lower()}{supply.label[1:]}" if entered is None else "the oxygen supply as entered"
-    return OxygenUse(fresh, driving, supply.key, label, content, entered is not None, planned, tuple(notes))
+    return OxygenUse(fresh, driving, supply.key, label, content, entered is not None, planned, tuple(notes),
+                     m.driving_gas if m.drive == "gas" else "oxygen")

@@ -12,8 +12,11 @@ from ventset.present.rows import Row, gas_or_none, ie_text
 
 
 def machine_title(plan: Plan) -> str:
-    """'On the <class>' (empty without a machine)."""
-    return f"On the machine: {plan.machine.machine.label}" if plan.machine is not None else ""
+    """'On the machine: <class>', or for a clinic machine '<its name> (<class>)' (empty without a machine)."""
+    if plan.machine is None:
+        return ""
+    m = plan.machine.machine
+    return f"On the machine: {m.label} ({m.class_label})" if m.is_clinic else f"On the machine: {m.label}"
 
 
 def machine_rows(plan: Plan) -> list[Row]:
@@ -57,7 +60,8 @@ def machine_outcome_rows(plan: Plan, units: Units = MMHG) -> list[Row]:
         Row("machine_peak", "Peak airway pressure", *split(ev.peak_cmh2o, "cmh2o"),
             f"plateau {show(ev.plateau_cmh2o, 'cmh2o')}, PEEP {show(ev.peep_cmh2o, 'cmh2o')}"),
         Row("machine_oxygen", "Oxygen use", *split(o.use_l_min, "flow_l"),
-            f"fresh gas {show(o.fresh_gas_l_min, 'flow_l')} + driving gas {show(o.driving_gas_l_min, 'flow_l')}"),
+            f"fresh gas {show(o.fresh_gas_l_min, 'flow_l')} + driving gas {show(o.driving_oxygen_l_min, 'flow_l')}"
+            + ("" if o.driving_gas == "oxygen" else f" (driven by air, {show(o.driving_gas_l_min, 'flow_l')})")),
         Row("machine_supply", "Oxygen supply lasts", supply, "",
             f"{o.supply_label} ({show(o.content_l, 'litre')}); planned {show(o.planned_min, 'minutes')}"),
     ]

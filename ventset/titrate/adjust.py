@@ -17,6 +17,7 @@ from ventset.errors import InputError
 from ventset.evaluate import Evaluation, evaluate
 from ventset.fields import FIELDS
 from ventset.library import Library, Sourced, load_library
+from ventset.machines.result import MachineSettings
 from ventset.model import STANDING_NOTICE, Caution, Limits, Plan, Request
 from ventset.planner import plan, plan_at
 from ventset.present.phrases import Phrase
@@ -106,6 +107,10 @@ class Adjustment:
     cautions: tuple[Caution, ...]
     rationale: tuple[Phrase, ...]
     standing_notice: str = STANDING_NOTICE
+    # With a machine in use (circuit.machine): the proposal and the part-way step dialled on it, re-evaluated as
+    # dialled with the measured CO2 output (ventset.titrate.dials); None without a machine.
+    machine_proposal: MachineSettings | None = None
+    machine_partial: MachineSettings | None = None
 
     @property
     def vco2_ratio(self) -> float:
@@ -258,6 +263,7 @@ def adjust(request: Request, measurement: Measurement, prefer: str = "rate",
         fio2 = m.fio2 if m.fio2 is not None else base.oxygen.fio2
         oxy = oxygenation(m.pao2_mmhg, fio2, base.oxygen.barometric_mmhg, r.paco2_mmhg, base.resolved.body_temp_c,
                           base.metabolism.rq)
+    st, on_machine = _on_machine(request, st, lib)
     ctx = AdjustContext(request, m, prefer, base, r, st, g, use, alv, oxy, lib, gradient_source)
     s = base.subject
     assert s is not None
@@ -268,4 +274,31 @@ def adjust(request: Request, measurement: Measurement, prefer: str = "rate",
     return Adjustment(request, m, prefer, base, ds, st.box, ev.alveolar_ml_min, ev.minute_ml_min, ev.plateau_cmh2o,
                       r.paco2_mmhg, r.source, r.gradient_mmhg, use, alv, r.vco2_ml_min, base.metabolism.vco2_ml_min,
                       r.target_mmhg, r.needed_alveolar_ml_min, st.proposal, st.partial, st.large, st.max_step, oxy,
-                      adjustment_cautions(ctx), rationale(ctx), base.standing_notice)
+                      _with_machine(adjustment_cautions(ctx), on_machine), rationale(ctx), base.standing_notice,
+                      *on_machine)
+
+
+def _on_machine(request: Request, st: Steps, lib: Library) -> tuple[Steps, tuple[MachineSettings | None, ...]]:
+    """With a machine in use: the proposal and part-way step dialled on it, and their dials in the proposals."""
+    if not request.circuit.machine:
+        return st, (None, None)
+    from ventset.machines.stage import find_machine
+    from ventset.titrate.dials import dials_of, on_the_machine
+
+    m = find_machine(request.circuit.machine)
+    full = on_the_machine(st.full_plan, m, lib)
+    part = on_the_machine(st.partial_plan, m, lib) if st.large else None
+    proposal = replace(st.proposal, dials=dials_of(full))
+    partial = replace(st.partial, dials=dials_of(part)) if part is not None else proposal
+    return replace(st, proposal=proposal, partial=partial), (full, part)
+
+
+def _with_machine(cautions: tuple[Caution, ...], on: tuple[MachineSettings | None, ...]) -> tuple[Caution, ...]:
+    """The adjustment's cautions and those of the proposal on the machine (each code once)."""
+    from ventset.cautions import sort_cautions
+
+    full = on[0]
+    if full is None:
+        return cautions
+    have = {c.code for c in cautions}
+    return tuple(sort_cautions([*cautions, *(c for c in full.cautions if c.code not in have)]))

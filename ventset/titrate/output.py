@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from ventset import __version__
 from ventset.errors import visible
+from ventset.machines.result import MachineSettings
 from ventset.present.quantities import Units, fmt, gas
 from ventset.report import caution_lines, cautions_to_json, patient_to_dict
 from ventset.report import json_number as n
@@ -92,7 +93,8 @@ def adjustment_to_dict(a: Adjustment) -> dict:
         "prefer": a.prefer,
         "in_use": {"tidal_volume_ml": n(m.tidal_volume_ml), "rate_per_min": n(m.rate_per_min),
                    "minute_ml_min": n(a.in_use_minute_ml_min), "alveolar_ml_min": n(a.in_use_alveolar_ml_min),
-                   "plateau_cmh2o": n(a.in_use_plateau_cmh2o)},
+                   "plateau_cmh2o": n(a.in_use_plateau_cmh2o),
+                   **({"dials": m.dials.to_dict()} if m.dials is not None else {})},
         "dead_space": {"anatomical_ml": n(ds.anatomical_ml), "apparatus_ml": n(ds.apparatus_ml),
                        "tube_ml": n(ds.tube_ml), "alveolar_ml": n(ds.alveolar_ml), "total_ml": n(ds.total_ml),
                        "fixed_ml": n(ds.fixed_ml), "alveolar_fraction": n(ds.alveolar_fraction),
@@ -105,13 +107,50 @@ def adjustment_to_dict(a: Adjustment) -> dict:
                      "alveolar_ml_min": n(a.in_use_alveolar_ml_min), "vco2_ml_min": n(a.vco2_ml_min),
                      "vco2_estimate_ml_min": n(a.vco2_estimate_ml_min), "vco2_ratio": n(a.vco2_ratio)},
         "target": {"paco2_mmhg": n(a.target_paco2_mmhg), "alveolar_ml_min": n(a.needed_alveolar_ml_min)},
-        "proposal": prop(a.proposal),
-        "partial_step": prop(a.partial_step),
+        "proposal": {**prop(a.proposal), **_machine(a.machine_proposal)},
+        "partial_step": {**prop(a.partial_step), **_machine(a.machine_partial or a.machine_proposal)},
         "step": {"large": a.large_step, "max_change_fraction": n(a.max_step.value), "source": a.max_step.source},
         "oxygenation": a.oxygenation.to_dict() if a.oxygenation else None,
         "rationale": [p.text() for p in a.rationale],
         "cautions": cautions_to_json(a.cautions),
     }
+
+
+def _machine(ms: MachineSettings | None) -> dict:
+    """{"machine": the proposal on the machine, as the plan JSON's "machine" block} (nothing without one)."""
+    if ms is None:
+        return {}
+    from ventset.machines.output import machine_to_dict
+
+    return {"machine": {**machine_to_dict(ms, n), "cautions": cautions_to_json(ms.cautions)}}
+
+
+def _dial_lines(label: str, ms: MachineSettings, units: Units) -> list[str]:
+    """The proposal as the machine's controls, then what the dialled breath gives (through the one evaluation)."""
+    ev = ms.evaluation
+    controls = " · ".join(f"{s.control.label} {s.control.shown(s.value)}" + ("" if s.in_range else " (END OF RANGE)")
+                          for s in ms.settings)
+    return [f"{label:<14}{controls}",
+            f"{'':<14}as dialled: {fmt(ev.vt_ml)} mL at the patient, {fmt(ev.rate_per_min)}/min → PaCO2 "
+            f"{gas(ev.paco2_mmhg, units)}, EtCO2 {gas(ev.etco2_mmhg, units)}; peak {fmt(ev.peak_cmh2o)} cmH2O"]
+
+
+def _machine_text(a: Adjustment, units: Units) -> list[str]:
+    """The section "ON THE MACHINE" of the text (empty without a machine)."""
+    ms = a.machine_proposal
+    if ms is None:
+        return []
+    title = ms.machine.label + (f" ({ms.machine.class_label})" if ms.machine.is_clinic else "")
+    lines = ["", f"ON THE MACHINE: {title}"]
+    d = a.measurement.dials
+    if d is not None:
+        shown = {s.control.kind: s.control for s in ms.settings}
+        lines.append(f"{'IN USE':<14}" + " · ".join(f"{shown[k].label} {shown[k].shown(v)}" for k, v in d.values
+                                                     if k in shown))
+    lines += _dial_lines("PROPOSAL", ms, units)
+    if a.large_step and a.machine_partial is not None:
+        lines += _dial_lines("PART-WAY", a.machine_partial, units)
+    return lines
 
 
 def adjustment_to_text(a: Adjustment, gas_unit: str = "mmHg") -> str:
@@ -161,6 +200,7 @@ def adjustment_to_text(a: Adjustment, gas_unit: str = "mmHg") -> str:
         lines += ["", f"OXYGENATION   PaO2 {g(o.pao2_mmhg)} at FiO2 {fmt(o.fio2)}: PAO2 {g(o.alveolar_po2_mmhg)}, "
                       f"A–a gradient {g(o.aa_gradient_mmhg)}, PaO2/FiO2 {fmt(o.pf_ratio_mmhg)} mmHg",
                   f"              {bands}"]
+    lines += _machine_text(a, units)
     lines += ["", "WHY"] + [f"  {s.text(units)}" for s in a.rationale]
     lines += ["", "CAUTIONS"]
     lines += caution_lines(a.cautions, units)

@@ -25,24 +25,66 @@ def _finite_or_none(x: float) -> float | None:
 
 
 @dataclass(frozen=True)
+class Dials:
+    """Settings as the controls of a machine: the machine (a class key or the clinic machine's name) and each
+    control's value in the control's own unit, in the machine's order, as (control kind, value); with what they
+    give at the patient when evaluated (``tidal_volume_ml`` at the patient, ``rate_per_min``, expected PaCO2)
+    and whether every control was inside its range."""
+
+    machine: str
+    values: tuple[tuple[str, float], ...]
+    tidal_volume_ml: float | None = None
+    rate_per_min: float | None = None
+    expected_paco2_mmhg: float | None = None
+    in_range: bool = True
+
+    def value(self, kind: str) -> float | None:
+        return next((v for k, v in self.values if k == kind), None)
+
+    def to_dict(self) -> dict:
+        return {"machine": self.machine, "values": [[k, v] for k, v in self.values],
+                "tidal_volume_ml": self.tidal_volume_ml, "rate_per_min": self.rate_per_min,
+                "expected_paco2_mmhg": self.expected_paco2_mmhg, "in_range": self.in_range}
+
+    @classmethod
+    def from_dict(cls, d: dict) -> Dials:
+        values = tuple((str(k), float(v)) for k, v in d["values"])
+        return cls(str(d["machine"]), values, _opt(d.get("tidal_volume_ml")), _opt(d.get("rate_per_min")),
+                   _opt(d.get("expected_paco2_mmhg")), bool(d.get("in_range", True)))
+
+
+def _dials_to(d: dict, dials: Dials | None) -> dict:
+    """``d`` with its "dials" only when there are any (a record without dials keeps its earlier layout)."""
+    if dials is not None:
+        d["dials"] = dials.to_dict()
+    return d
+
+
+def _dials_from(d: dict) -> Dials | None:
+    return Dials.from_dict(d["dials"]) if d.get("dials") else None
+
+
+@dataclass(frozen=True)
 class Settings:
-    """Ventilator settings in use: tidal volume the patient receives (mL), rate (/min), and the volume set on
-    the ventilator (mL; the patient's volume plus what the circuit compresses), None in records from before it
-    was kept."""
+    """Ventilator settings in use: tidal volume the patient receives (mL), rate (/min), the volume set on the
+    ventilator (mL; the patient's volume plus what the circuit compresses; None in records from before it was
+    kept), and ``dials``: the same settings as the controls of the machine in use, when they were given that way."""
 
     tidal_volume_ml: float
     rate_per_min: float
     set_tidal_volume_ml: float | None = None
+    dials: Dials | None = None
 
     def to_dict(self) -> dict:
         d = {"tidal_volume_ml": self.tidal_volume_ml, "rate_per_min": self.rate_per_min}
         if self.set_tidal_volume_ml is not None:
             d["set_tidal_volume_ml"] = self.set_tidal_volume_ml
-        return d
+        return _dials_to(d, self.dials)
 
     @classmethod
     def from_dict(cls, d: dict) -> Settings:
-        return cls(float(d["tidal_volume_ml"]), float(d["rate_per_min"]), _opt(d.get("set_tidal_volume_ml")))
+        return cls(float(d["tidal_volume_ml"]), float(d["rate_per_min"]), _opt(d.get("set_tidal_volume_ml")),
+                   _dials_from(d))
 
 
 @dataclass(frozen=True)
@@ -65,10 +107,11 @@ class Measurement:
     clock: str = ""
     note: str = ""
     set_tidal_volume_ml: float | None = None
+    dials: Dials | None = None  # the settings in use as the machine's controls, when given that way
 
     @property
     def settings(self) -> Settings:
-        return Settings(self.tidal_volume_ml, self.rate_per_min, self.set_tidal_volume_ml)
+        return Settings(self.tidal_volume_ml, self.rate_per_min, self.set_tidal_volume_ml, self.dials)
 
     def to_dict(self) -> dict:
         d = {"time_min": self.time_min, "clock": self.clock, "tidal_volume_ml": self.tidal_volume_ml,
@@ -77,14 +120,14 @@ class Measurement:
              "note": self.note}
         if self.set_tidal_volume_ml is not None:
             d["set_tidal_volume_ml"] = self.set_tidal_volume_ml
-        return d
+        return _dials_to(d, self.dials)
 
     @classmethod
     def from_dict(cls, d: dict) -> Measurement:
         return cls(float(d["time_min"]), float(d["tidal_volume_ml"]), float(d["rate_per_min"]),
                    _opt(d.get("paco2_mmhg")), _opt(d.get("etco2_mmhg")), _opt(d.get("pao2_mmhg")),
                    _opt(d.get("spo2_percent")), _opt(d.get("fio2")), str(d.get("clock") or ""),
-                   str(d.get("note") or ""), _opt(d.get("set_tidal_volume_ml")))
+                   str(d.get("note") or ""), _opt(d.get("set_tidal_volume_ml")), _dials_from(d))
 
 
 def validate_measurement(m: Measurement) -> None:
@@ -120,17 +163,22 @@ class Proposal:
     changed: str
     fraction_of_change: float
     ventilation_change: float
+    dials: Dials | None = None  # the proposal on the machine in use: its controls, re-evaluated as dialled
 
     @property
     def settings(self) -> Settings:
+        """What is set when this proposal is accepted: on a machine, the breath as dialled, with its dials."""
+        d = self.dials
+        if d is not None and d.tidal_volume_ml is not None and d.rate_per_min is not None:
+            return Settings(d.tidal_volume_ml, d.rate_per_min, dials=d)
         return Settings(self.tidal_volume_ml, self.rate_per_min, self.set_tidal_volume_ml)
 
     def to_dict(self) -> dict:
-        d = {k: getattr(self, k) for k in self.__dataclass_fields__}
+        d = {k: getattr(self, k) for k in self.__dataclass_fields__ if k != "dials"}
         d["binding"] = list(self.binding)
         for k in ("expected_paco2_mmhg", "expected_etco2_mmhg", "peak_cmh2o", "plateau_cmh2o"):
             d[k] = _finite_or_none(d[k])
-        return d
+        return _dials_to(d, self.dials)
 
     @classmethod
     def from_dict(cls, d: dict) -> Proposal:
@@ -143,7 +191,7 @@ class Proposal:
                    math.inf if d.get("expected_paco2_mmhg") is None else float(d["expected_paco2_mmhg"]),
                    num("expected_etco2_mmhg"), num("plateau_cmh2o"), num("peak_cmh2o"), bool(d["reached"]),
                    tuple(d.get("binding") or ()), str(d["changed"]), num("fraction_of_change"),
-                   num("ventilation_change"))
+                   num("ventilation_change"), _dials_from(d))
 
 
 # --------------------------------------------------------------------------------------------------------
