@@ -4,7 +4,9 @@ and a name that exists with different values a reported conflict, never overwrit
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, replace
+from typing import Any
 
 from ventset.errors import InputError
 from ventset.partslib_model import CONFLICT_CHOICES, MAX_NAME, ClinicLibrary, name_key
@@ -53,12 +55,20 @@ def _free_name(exists, name: str) -> str:
         n += 1
 
 
+def _lookups(lib: ClinicLibrary, kind: str) -> tuple[Callable[[str], Any], Callable[..., ClinicLibrary]]:
+    """How ``lib`` finds and adds an entry of ``kind``."""
+    if kind == "part":
+        return lib.part, lib.with_part
+    if kind == "preset":
+        return lib.preset, lib.with_preset
+    return lib.machine, lib.with_machine
+
+
 def _merge_entries(lib: ClinicLibrary, entries, kind: str, on_conflict: str, added: list, same: list,
                    conflicts: list) -> ClinicLibrary:
     """Merge one kind of entry ('part', 'preset' or 'machine') into ``lib``; appends to the report lists."""
     for entry in entries:
-        find, add = {"part": (lib.part, lib.with_part), "preset": (lib.preset, lib.with_preset),
-                     "machine": (lib.machine, lib.with_machine)}[kind]
+        find, add = _lookups(lib, kind)
         mine = find(entry.name)
         word = SHOWN_KIND[kind]
         if mine is None:

@@ -59,10 +59,10 @@ def read_dials(m: MachineClass, given: Sequence[tuple[str, object]]) -> tuple[tu
         found[c.kind] = value
     missing = [k for k in required_controls(m) if k not in found]
     if missing:
-        c = m.control(missing[0])
-        assert c is not None
-        raise InputError("machine-control", "", f"is needed to know the breath in use ({c.kind}=VALUE in "
-                                                f"{c.unit})", label=f"{c.label} in use")
+        need = m.control(missing[0])
+        assert need is not None
+        raise InputError("machine-control", "", f"is needed to know the breath in use ({need.kind}=VALUE in "
+                                                f"{need.unit})", label=f"{need.label} in use")
     return tuple((c.kind, found[c.kind]) for c in m.controls if c.kind in found)
 
 
