@@ -308,7 +308,7 @@ def test_machines_add_edit_list_plan_export_import_remove(tmp_path, capsys, monk
     dial = next(c for c in block["controls"] if c["control"] == "rate")
     assert dial["step"] == 2 and dial["value"] % 2 == 0
     rc, out, _ = _run(capsys, "plan", "--species", "dog", "--mass", "20 kg", "--machine", "theatre 2")
-    assert "ON THE MACHINE: THEATRE 2 BELLOWS (ASCENDING BELLOWS" in out
+    assert "ON THE MACHINE: THEATRE 2 BELLOWS\n  The clinic's own machine, made from the class: Ascending" in out
 
     rc, _, err = _run(capsys, "machines", "edit", "Theatre 2 bellows", "--step", "rate=1", "--reset",
                       "compressible-volume", "--rename", "Theatre 2")

@@ -220,5 +220,5 @@ def _list(ns: argparse.Namespace, lib: partslib.ClinicLibrary) -> int:
         for p in s.parts:
             print(f"{'':<12}{p.name} {p.volume_ml:g} mL [{p.source}]")
     for m in lib.machines:
-        print(f"{'ventilator':<10}{m.name[:34]:<35}{m.summary()}  ('ventset machines' shows its controls)")
+        print(f"{'ventilator'} {m.name[:33]:<34}{m.summary()}  ('ventset machines' shows its controls)")
     return 0

@@ -106,7 +106,7 @@ def _edit(ns: argparse.Namespace, lib: partslib.ClinicLibrary) -> None:
         klass = find_machine(ns.machine_class).key
         if klass != old.machine_class:
             if start:
-                say(f"the own ranges of '{old.name}' were for class {old.machine_class} and are dropped")
+                say(f"the clinic's own ranges of '{old.name}' were for class {old.machine_class} and are dropped")
             start, d["driving_gas"], d["driving_gas_ve_multiple"] = {}, None, None
     for what in ns.reset:
         if what in RESETS:

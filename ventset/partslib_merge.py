@@ -55,14 +55,20 @@ def _free_name(exists, name: str) -> str:
         n += 1
 
 
+def _lookups(lib: ClinicLibrary, kind: str) -> tuple[Callable[[str], Any], Callable[..., ClinicLibrary]]:
+    """How ``lib`` finds and adds an entry of ``kind``."""
+    if kind == "part":
+        return lib.part, lib.with_part
+    if kind == "preset":
+        return lib.preset, lib.with_preset
+    return lib.machine, lib.with_machine
+
+
 def _merge_entries(lib: ClinicLibrary, entries, kind: str, on_conflict: str, added: list, same: list,
                    conflicts: list) -> ClinicLibrary:
     """Merge one kind of entry ('part', 'preset' or 'machine') into ``lib``; appends to the report lists."""
     for entry in entries:
-        pairs: dict[str, tuple[Callable[..., Any], Callable[..., ClinicLibrary]]] = {
-            "part": (lib.part, lib.with_part), "preset": (lib.preset, lib.with_preset),
-            "machine": (lib.machine, lib.with_machine)}
-        find, add = pairs[kind]
+        find, add = _lookups(lib, kind)
         mine = find(entry.name)
         word = SHOWN_KIND[kind]
         if mine is None:

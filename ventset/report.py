@@ -124,11 +124,14 @@ def _machine_block(plan: Plan) -> dict:
 
 def machine_lines(plan: Plan, units: Units) -> list[str]:
     """The dial settings under the machine's name, then what they give (empty without a machine)."""
-    from ventset.present.dials import machine_outcome_rows, machine_rows, machine_title
+    from ventset.present.dials import machine_origin, machine_outcome_rows, machine_rows, machine_title
 
     if plan.machine is None:
         return []
     lines = ["", one_line(machine_title(plan)).upper()]
+    origin = machine_origin(plan)
+    if origin:
+        lines.append(f"  {one_line(origin)}")
     lines += [f"  {row.name:<30}{row.text:<14}{row.detail}" for row in machine_rows(plan)]
     lines += ["  gives:"]
     lines += [f"    {row.name:<28}{row.text:<14}{row.detail}" for row in machine_outcome_rows(plan, units)]

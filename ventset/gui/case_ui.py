@@ -582,6 +582,10 @@ class ClinicPartsDialog(QDialog):
         row.addStretch(1)
         pl.addLayout(row)
         self.tabs.addTab(presets, "Circuit presets")
+        from ventset.gui.clinic_machines import MachinesTab
+
+        self.machines_tab = MachinesTab(self.tabs, lambda: self.lib, self._store, manager)
+        self.tabs.addTab(self.machines_tab, "This clinic's ventilators")
 
         shipped = QTableWidget(0, 3, self.tabs)
         shipped.setObjectName("catalogue-parts")
@@ -619,13 +623,14 @@ class ClinicPartsDialog(QDialog):
         if self.error:
             self.where.setText(f"{self.error}\nThe file is left as it is; fix or move it to edit the library.")
         else:
-            self.where.setText(f"Saved on this machine in {partslib.library_path()}. Share it with Export and "
+            self.where.setText(f"Saved on this computer in {partslib.library_path()}. Share it with Export and "
                                "Import: entries with the same name and different values are reported, never "
                                "overwritten.")
         editable = not self.error
         for w in (self.add_part_button, self.remove_part_button, self.save_preset_button,
                   self.remove_preset_button, self.import_button):
             w.setEnabled(editable)
+        self.machines_tab.refresh(editable)
         self.parts_table.blockSignals(True)
         self.parts_table.setRowCount(len(self.lib.parts))
         for i, p in enumerate(self.lib.parts):

@@ -32,7 +32,7 @@ def fill(combo: QComboBox) -> str:
     if own:
         combo.insertSeparator(combo.count())
     for m in own:
-        _add(combo, f"{m.name} (the clinic's)", m.name, m.summary())
+        _add(combo, f"{m.name} (clinic)", m.name, f"The clinic's own machine: {m.summary()}")
     select(combo, chosen or "")
     combo.blockSignals(False)
     return problem

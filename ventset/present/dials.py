@@ -12,11 +12,17 @@ from ventset.present.rows import Row, gas_or_none, ie_text
 
 
 def machine_title(plan: Plan) -> str:
-    """'On the machine: <class>', or for a clinic machine '<its name> (<class>)' (empty without a machine)."""
-    if plan.machine is None:
+    """'On the machine: <class>', or for a clinic machine '<its name>' (empty without a machine): short enough
+    for the window's title line; ``machine_origin`` says what a clinic machine is made from."""
+    return f"On the machine: {plan.machine.machine.label}" if plan.machine is not None else ""
+
+
+def machine_origin(plan: Plan) -> str:
+    """For one of the clinic's machines, the class it is made from (empty for a class or without a machine)."""
+    if plan.machine is None or not plan.machine.machine.is_clinic:
         return ""
     m = plan.machine.machine
-    return f"On the machine: {m.label} ({m.class_label})" if m.is_clinic else f"On the machine: {m.label}"
+    return f"The clinic's own machine, made from the class: {m.class_label} ({m.class_key})"
 
 
 def machine_rows(plan: Plan) -> list[Row]:
