@@ -143,3 +143,14 @@ def test_bad_dials_on_the_command_line_are_one_line(capsys, extra, needle):
     rc = main(["adjust", "--species", "dog", "--mass", "20 kg", "--measured-paco2", "50", *extra])
     err = capsys.readouterr().err
     assert rc == 2 and needle in err and err.count("\n") == 1
+
+
+def test_the_record_card_names_each_control_with_its_unit():
+    from ventset.titrate.dials import dials_text
+
+    a = adjust(_dog(), Measurement(0.0, 200.0, 10.0, paco2_mmhg=52.0), "rate", LIB)
+    text = dials_text(a.proposal.dials)
+    m = find_machine(a.proposal.dials.machine)
+    first = m.controls[0]
+    assert text.startswith(f"{first.label} ") and first.unit in text.split(",")[0]
+    assert len(text.split(", ")) == len(a.proposal.dials.values)

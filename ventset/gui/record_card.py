@@ -10,6 +10,7 @@ from ventset.gui.text import esc
 from ventset.gui.theme import SEVERITY_WORD, Theme, severity_colours
 from ventset.present.quantities import Units, show
 from ventset.titrate import Settings, TimelineEntry, preference_reason
+from ventset.titrate.dials import dials_text
 
 
 def gas_text(mmhg: float | None, unit: str) -> str:
@@ -43,6 +44,9 @@ def card_parts(e: TimelineEntry, units: Units, t: Theme, notes: set[str]) -> lis
                      f"EtCO2 {gas_text(p.expected_etco2_mmhg, units.gas)}; "
                      f"plateau {show(p.plateau_cmh2o, 'cmh2o')}, peak {show(p.peak_cmh2o, 'cmh2o')}"
                      + ("" if p.reached else " — <b>target not reached</b>"))
+        if p.dials is not None:
+            parts.append(f"<b>On the machine:</b> {esc(dials_text(p.dials))} → PaCO2 as dialled "
+                         f"{gas_text(p.dials.expected_paco2_mmhg, units.gas)}")
         if e.partial_step:
             q = e.partial_step
             parts.append(f"<b>Part-way: {esc(settings_text(q.settings))}</b> "
@@ -65,5 +69,6 @@ def card_parts(e: TimelineEntry, units: Units, t: Theme, notes: set[str]) -> lis
     if said:
         parts.append(f"Species notes, as in the Cautions panel: {esc(', '.join(said))}.")
     if e.settings_set:
-        parts.append(f"<b>Set:</b> {esc(settings_text(e.settings_set))} ({e.accepted.replace('_', '-')}).")
+        dialled = f"; on the machine {dials_text(e.settings_set.dials)}" if e.settings_set.dials else ""
+        parts.append(f"<b>Set:</b> {esc(settings_text(e.settings_set) + dialled)} ({e.accepted.replace('_', '-')}).")
     return parts

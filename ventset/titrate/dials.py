@@ -91,3 +91,20 @@ def on_the_machine(proposal: Plan, m: MachineClass, library: Library) -> Machine
     from ventset.planner import plan_at
 
     return on_machine(proposal, m, library, plan_at)
+
+
+def dials_text(d: Dials) -> str:
+    """'Bellows volume 250 mL, Breaths per minute 12 /min, …' for a record's card (the machine's own labels and
+    units; a machine no longer known here shows its control kinds)."""
+    from ventset.machines.stage import find_machine
+
+    try:
+        m: MachineClass | None = find_machine(d.machine)
+    except InputError:
+        m = None
+    parts = []
+    for kind, value in d.values:
+        c = m.control(kind) if m is not None else None
+        parts.append(f"{kind} {value:g}" if c is None else
+                     f"{c.label} 1:{c.text(value)}" if c.unit == "1:E" else f"{c.label} {c.text(value)} {c.unit}")
+    return ", ".join(parts)
