@@ -18,6 +18,7 @@ import re
 from dataclasses import dataclass
 
 from ventset.errors import InputError, visible
+from ventset.present.quantities import fmt  # the one number format (significant figures by magnitude)
 from ventset.textpolicy import bad_character
 
 MMHG_PER_KPA = 7.500615758  # 1 kPa = 1000 Pa / 133.322387415 Pa (conventional mmHg)
@@ -209,18 +210,6 @@ def check_range(value: float, lo: float | None, hi: float | None, field: object,
     return value
 
 
-def fmt(value: float | None, sig: int = 3) -> str:
-    """Format a number for a clinician: ``sig`` significant figures, a leading zero, no trailing zero."""
-    if value is None or not math.isfinite(value):
-        return "—"
-    if value == 0:
-        return "0"
-    mag = math.floor(math.log10(abs(value)))
-    decimals = max(0, sig - 1 - mag)
-    text = f"{round(value, decimals):.{decimals}f}"
-    if "." in text:
-        text = text.rstrip("0").rstrip(".")
-    return "0" if text in {"-0", ""} else text
 
 
 def mmhg_to_kpa(mmhg: float) -> float:
