@@ -67,6 +67,8 @@ app.exec()
 
 def _env(tmp: str) -> dict:
     env = dict(os.environ)
+    # Byte-code caches as an installed program has them (the warm-up run of each command writes them).
+    env.pop("PYTHONDONTWRITEBYTECODE", None)
     env.update(QT_QPA_PLATFORM="offscreen", VENTSET_SETTINGS_DIR=os.path.join(tmp, "settings"),
                VENTSET_DATA_DIR=os.path.join(tmp, "data"), QT_LOGGING_RULES="qt.qpa.*=false",
                PYQTGRAPH_QT_LIB="PySide6")
@@ -76,7 +78,7 @@ def _env(tmp: str) -> dict:
 def _wall(cmd: list[str], env: dict, until: str | None = None) -> float:
     """Seconds from process start to exit, or to the first stdout line starting with ``until``."""
     t0 = time.perf_counter()
-    proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True, env=env)
+    proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True, env=env, cwd=ROOT)
     if until:
         assert proc.stdout is not None
         for line in proc.stdout:
@@ -300,15 +302,15 @@ def edit_runs(n: int = 200, panels: bool = False, rss_edits: int = 2000) -> dict
             for j, k in enumerate(("numbers", "views", "numbers_cpu", "views_cpu")):
                 out[k].append(a[j])
                 out["floor_" + k].append(b[j])
-    if rss_edits:
+    if rss_edits:  # the edit index runs on, so that every field goes on growing and shrinking by turns
         gc.collect()
         r0 = _rss_mb()
-        for i in range(rss_edits):
+        for i in range(n + 10, n + 10 + rss_edits):
             ventset_edit(i)
         gc.collect()
         out["rss_growth_mb"] = [_rss_mb() - r0]
         r0 = _rss_mb()
-        for i in range(rss_edits):
+        for i in range(n + 10, n + 10 + rss_edits):
             floor_edit(i)
         gc.collect()
         out["rss_growth_floor_mb"] = [_rss_mb() - r0]
@@ -374,8 +376,8 @@ def edit_figures(ns: argparse.Namespace) -> dict:
 
 def process_figures(ns: argparse.Namespace, env: dict, tmp: str) -> dict:
     py = sys.executable
-    exe = Path(py).with_name("ventset")
-    ventset_cmd = [str(exe)] if exe.exists() else [py, "-m", "ventset"]
+    # `python -m ventset` from the project folder: the checkout measured, not whichever one is installed.
+    ventset_cmd = [py, "-m", "ventset"]
     floor_py = os.path.join(tmp, "floor.py")
     Path(floor_py).write_text(FLOOR_SCRIPT, encoding="utf-8")
     n = ns.runs
