@@ -48,6 +48,7 @@ from ventset.model import Plan, Request
 from ventset.report import plan_to_text
 
 DEFAULT_SIZE = (1400, 900)
+UNDO_STEPS = 200  # undo history kept (the oldest steps are dropped): bounded memory over a long session
 
 # Panels added by other modules: each defines install(window), called by ventset.gui.app.run() after the
 # window is built (a failing panel is reported on stderr and the planning window still opens).
@@ -90,6 +91,7 @@ class MainWindow(QMainWindow):
         self.library = library or load_library()
         self.controller = PlanController(self.library, self)
         self.undo = QUndoStack(self)
+        self.undo.setUndoLimit(UNDO_STEPS)
         self.setWindowTitle("ventset — starting ventilator settings")
         self._menus: dict[str, QMenu] = {}
         self._panels: dict[str, QWidget] = {}
