@@ -3,23 +3,38 @@
     python benchmarks/run.py          # readable summary
     python benchmarks/run.py --json   # one JSON object
 
-Measures, offscreen:
-  edit_to_views_ms_p50/p95  one typed key in a field → replan → every read-out and plot updated and painted
-                            (200 edits at 1400 × 900)
-  settings_map_ms           computing a 200 × 200 tidal volume × rate map (median)
-  sweep_10k_ms(_min)        the sweep over body mass (ventset.sweep) at 10,000 masses, dog 2-40 kg (median, fastest)
-  plan_loop_10k_s           plan() called once per mass at the same 10,000 masses
-  sweep_speedup             plan_loop_10k_s / sweep_10k_ms (how many times faster the sweep is)
-  sweep_max_rel_diff        largest relative difference of tidal volume, rate and PaCO2 between the two
-  cold_start_s              process start → window with the demo patient drawn (median of 5)
-  cli_plan_s                one `ventset plan` process (median of 5)
-  library_import_s          baseline: a process that only imports PySide6.QtWidgets, pyqtgraph and numpy
-  python_start_s            baseline: an empty Python process
+Every figure is measured beside a floor taken in the same run, and printed with its ratio to that floor
+(``*_ratio``), so that a busy or slow machine moves both and the ratio stays comparable:
+
+  edit_to_numbers_ms_p50/p95  one typed key in a field → replan → every number on screen (settings tiles, status
+                              strip, cautions) painted; 200 edits at 1400 × 900.
+                              Floor: the same key press in a bare window whose line edit sets a label.
+  edit_to_views_ms_p50/p95    the same key → every plot painted as well.
+                              Floor: the bare window's label and one pyqtgraph curve of 150 points, painted.
+  edit_to_*_cpu_ms_*          the same two, counted in this thread's processor time instead of the wall clock
+                              (a machine busy with other work moves them less; not a target, a check).
+  rss_growth_mb_2000_edits    resident memory after 2000 more edits minus before them (the floor window beside it).
+  settings_map_ms             computing a 200 × 200 tidal volume × rate map (median); floor: numpy filling a
+                              200 × 200 array with the alveolar ventilation equation.
+  sweep_10k_ms(_min)          the sweep over body mass (ventset.sweep) at 10,000 masses, dog 2-40 kg (median, fastest)
+  plan_loop_10k_s             plan() called once per mass at the same 10,000 masses
+  sweep_speedup               plan_loop_10k_s / sweep_10k_ms (how many times faster the sweep is)
+  sweep_max_rel_diff          largest relative difference of tidal volume, rate and PaCO2 between the two
+  cold_start_s                process start → first frame with the demo plan drawn (median of pairs).
+                              Floor: PySide6 + pyqtgraph + numpy imported, one plot shown and painted.
+  cli_plan_s                  one `ventset plan --species dog --mass "20 kg"` process; floor: `python -c pass`.
+  cli_units_s                 `ventset plan --species dog --mass "44 lb" --target-paco2 "5.3 kPa"` against the same
+                              plan typed in the internal units (kg, mmHg), as whole processes, pair by pair.
+  library_import_s            a process that only imports PySide6.QtWidgets, pyqtgraph and numpy
+  python_start_s              an empty Python process
+
+Whole-process figures run A B A B … and the ratio is the median of the pairs' ratios.
 """
 
 from __future__ import annotations
 
 import argparse
+import gc
 import json
 import os
 import statistics
@@ -32,19 +47,44 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
+# The bare-Qt floor for the cold start: the libraries the window needs, one plot, its first frame.
+FLOOR_SCRIPT = """\
+import os, sys, time
+os.environ.setdefault("PYQTGRAPH_QT_LIB", "PySide6")
+import numpy as np
+from PySide6.QtCore import QTimer
+from PySide6.QtWidgets import QApplication
+import pyqtgraph as pg
+app = QApplication([sys.argv[0]])
+w = pg.PlotWidget()
+w.plot(np.linspace(0, 3, 150), np.sin(np.linspace(0, 9, 150)))
+w.resize(1400, 900)
+w.show()
+def ready():
+    w.repaint()
+    print("ready", flush=True)
+    app.quit()
+QTimer.singleShot(0, ready)
+app.exec()
+"""
+
 
 def _env(tmp: str) -> dict:
     env = dict(os.environ)
+    # Byte-code caches as an installed program has them (the warm-up run of each command writes them).
+    env.pop("PYTHONDONTWRITEBYTECODE", None)
     env.update(QT_QPA_PLATFORM="offscreen", VENTSET_SETTINGS_DIR=os.path.join(tmp, "settings"),
-               VENTSET_DATA_DIR=os.path.join(tmp, "data"), QT_LOGGING_RULES="qt.qpa.*=false")
+               VENTSET_DATA_DIR=os.path.join(tmp, "data"), QT_LOGGING_RULES="qt.qpa.*=false",
+               PYQTGRAPH_QT_LIB="PySide6")
     return env
 
 
 def _wall(cmd: list[str], env: dict, until: str | None = None) -> float:
     """Seconds from process start to exit, or to the first stdout line starting with ``until``."""
     t0 = time.perf_counter()
-    proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True, env=env)
+    proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True, env=env, cwd=ROOT)
     if until:
+        assert proc.stdout is not None
         for line in proc.stdout:
             if line.startswith(until):
                 t = time.perf_counter() - t0
@@ -57,63 +97,238 @@ def _wall(cmd: list[str], env: dict, until: str | None = None) -> float:
     return time.perf_counter() - t0
 
 
-def _median_runs(cmd: list[str], env: dict, n: int = 5, until: str | None = None) -> float:
-    _wall(cmd, env, until)  # warm the byte-code caches once
-    return statistics.median(_wall(cmd, env, until) for _ in range(n))
+def _pairs(a: tuple[list[str], dict, str | None], b: tuple[list[str], dict, str | None], n: int) -> dict:
+    """Run A and B in turn n times (after one warm-up each); medians of A, B and of the pair ratios A/B."""
+    _wall(*a)
+    _wall(*b)
+    ta, tb = [], []
+    for _ in range(n):
+        ta.append(_wall(*a))
+        tb.append(_wall(*b))
+    return {"a": statistics.median(ta), "b": statistics.median(tb),
+            "ratio": statistics.median(x / y for x, y in zip(ta, tb, strict=True))}
 
 
-def edit_to_views(n: int = 200, panels: bool = False) -> list[float]:
-    """Milliseconds per typed edit, from the key press to the last view painted."""
+# ------------------------------------------------------------------------------------------ edits
+class PaintClock:
+    """Which watched widgets painted in each pass of the window's backing store, and when that pass ended.
+
+    ``kinds[widget]`` is 'numbers' or 'plots'; the window calls ``synced()`` after each UpdateRequest (the
+    pass that paints every dirty widget of a top-level window and flushes it)."""
+
+    def __init__(self) -> None:
+        from PySide6.QtCore import QEvent, QObject
+
+        clock = self
+
+        class Filter(QObject):
+            def eventFilter(self, obj, e):  # noqa: N802 - Qt override
+                if e.type() == QEvent.Type.Paint:
+                    kind = clock.kinds.get(id(obj))
+                    if kind:
+                        clock.painted.add(kind)
+                return False
+
+        self.filter = Filter()
+        self.kinds: dict[int, str] = {}
+        self.watched: set[int] = set()
+        self.painted: set[str] = set()
+        self.syncs: list[tuple[float, frozenset]] = []
+
+    def watch(self, widgets, kind: str) -> None:
+        for w in widgets:
+            if id(w) not in self.watched:
+                self.watched.add(id(w))
+                w.installEventFilter(self.filter)
+            self.kinds[id(w)] = kind
+
+    def synced(self) -> None:
+        self.syncs.append((time.perf_counter(), time.thread_time(), frozenset(self.painted)))
+        self.painted.clear()
+
+
+def _timed(cls):
+    """A subclass of the window class ``cls`` that tells its PaintClock when each paint pass ends."""
+    from PySide6.QtCore import QEvent
+
+    class Timed(cls):
+        clock: PaintClock | None = None
+
+        def event(self, e):
+            is_sync = e.type() == QEvent.Type.UpdateRequest
+            result = super().event(e)
+            if is_sync and self.clock is not None:
+                self.clock.synced()
+            return result
+
+    return Timed
+
+
+class FloorWindow:
+    """The bare-Qt edit floor: a line edit whose every change sets a number label and one 150-point curve."""
+
+    def __init__(self) -> None:
+        import numpy as np
+        import pyqtgraph as pg
+        from PySide6.QtWidgets import QLabel, QLineEdit, QMainWindow, QVBoxLayout, QWidget
+
+        self.win = _timed(QMainWindow)()
+        body = QWidget(self.win)
+        lay = QVBoxLayout(body)
+        self.edit = QLineEdit("20", body)
+        self.label = QLabel("—", body)
+        self.plot = pg.PlotWidget(body)
+        self.curve = self.plot.plot()
+        self.plot.getPlotItem().vb.disableAutoRange()
+        self.plot.setRange(xRange=(0, 3), yRange=(-2, 2), padding=0)
+        for w in (self.edit, self.label, self.plot):
+            lay.addWidget(w)
+        self.win.setCentralWidget(body)
+        self._t = np.linspace(0, 3, 150)
+        self._np = np
+        self.edit.textChanged.connect(self._changed)
+        self.ready = [0]
+
+    def _changed(self, text: str) -> None:
+        x = float(len(text)) + 1.0
+        self.label.setText(f"{x * 1.2345:.4g} mL")
+        self.curve.setData(self._t, self._np.sin(self._t * x))
+        self.ready[0] += 1
+
+    def watch(self, clock: PaintClock) -> None:
+        clock.watch([self.label], "numbers")
+        clock.watch([self.plot.viewport()], "plots")
+
+
+def _app():
     os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
-    from PySide6.QtCore import Qt
-    from PySide6.QtTest import QTest
     from PySide6.QtWidgets import QApplication
 
-    import ventset.gui  # noqa: F401
+    import ventset.gui  # noqa: F401  (binding choice for pyqtgraph)
+
+    return QApplication.instance() or QApplication([])
+
+
+def _watch_window(window, clock: PaintClock) -> None:
+    from PySide6.QtWidgets import QWidget
+
+    numbers = []
+    for panel in (window.settings_panel, window.status, window.cautions):
+        numbers += [panel, *panel.findChildren(QWidget)]
+    clock.watch(numbers, "numbers")
+    clock.watch([card.widget.viewport() for card in window.plot_cards], "plots")
+
+
+def _ventset_window(panels: bool):
     from ventset.gui.settings import open_settings
     from ventset.gui.window import MainWindow
 
-    app = QApplication.instance() or QApplication([])
-    window = MainWindow(open_settings())
+    window = _timed(MainWindow)(open_settings())
     if panels:
         from ventset.gui.window import install_extensions
 
         install_extensions(window)
-    window.resize(1400, 900)
-    window.show()
+    ready = [0]  # a count, not the plans: keeping them would count as the window's memory
+    window.controller.plan_ready.connect(lambda _p: ready.__setitem__(0, ready[0] + 1))
+    window.controller.plan_invalid.connect(lambda _e: ready.__setitem__(0, ready[0] + 1))
+    return window, ready
+
+
+def _one_edit(app, clock: PaintClock, edit, key, ready: list[int]) -> tuple[float, float, float, float]:
+    """Type ``key`` into ``edit``; milliseconds to the last pass that painted numbers, and plots (wall clock,
+    then this thread's processor time, which a busy machine moves less)."""
+    from PySide6.QtTest import QTest
+
+    edit.setFocus()
+    edit.end(False)
+    for _ in range(3):
+        app.processEvents()
+    before = ready[0]
+    clock.syncs.clear()
+    t0, c0 = time.perf_counter(), time.thread_time()
+    QTest.keyClick(edit, key)
+    deadline = t0 + 5
+    while ready[0] == before and time.perf_counter() < deadline:
+        app.processEvents()
+    if ready[0] == before:
+        raise RuntimeError("an edit produced no plan")
+    for _ in range(6):  # the passes the new data posted (repaints, deferred views); idle passes cost nothing
+        app.processEvents()
+    num = [(t, c) for t, c, kinds in clock.syncs if "numbers" in kinds]
+    plots = [(t, c) for t, c, kinds in clock.syncs if "plots" in kinds]
+    if not num or not plots:
+        raise RuntimeError(f"an edit painted no {'numbers' if not num else 'plots'}")
+    return ((num[-1][0] - t0) * 1000, (plots[-1][0] - t0) * 1000,
+            (num[-1][1] - c0) * 1000, (plots[-1][1] - c0) * 1000)
+
+
+def _rss_mb() -> float:
+    with open("/proc/self/status") as f:
+        for line in f:
+            if line.startswith("VmRSS:"):
+                return int(line.split()[1]) / 1024
+    return float("nan")
+
+
+def edit_runs(n: int = 200, panels: bool = False, rss_edits: int = 2000) -> dict:
+    """Milliseconds per typed edit for ventset's window and the floor, interleaved; memory growth."""
+    from PySide6.QtCore import Qt
+
+    app = _app()
+    window, ready = _ventset_window(panels)
+    floor = FloorWindow()
+    for w in (window, floor.win):
+        w.resize(1400, 900)
+        w.show()
     for _ in range(5):
         app.processEvents()
-    ready = []
-    window.controller.plan_ready.connect(lambda p: ready.append(p))
-    window.controller.plan_invalid.connect(lambda e: ready.append(e))
-    times = []
+    clock = PaintClock()
+    window.clock = clock
+    floor.win.clock = clock
+    floor.watch(clock)
     fields = ["mass", "peep", "mass", "gradient"]  # each edit below gives a valid, different plan
-    for i in range(n + 10):
-        key = fields[i % len(fields)]
-        edit = window.form.rows[key].edit
-        edit.setFocus()
-        edit.end(False)
-        before = len(ready)
+    out: dict[str, list[float]] = {k: [] for k in ("numbers", "views", "numbers_cpu", "views_cpu")}
+    out.update({"floor_" + k: [] for k in list(out)})
+
+    def ventset_edit(i: int) -> tuple[float, float, float, float]:
+        edit = window.form.rows[fields[i % len(fields)]].edit
         grow = (i // len(fields)) % 2 == 0
-        t0 = time.perf_counter()
-        if grow:
-            QTest.keyClick(edit, Qt.Key.Key_5)
-        else:
-            QTest.keyClick(edit, Qt.Key.Key_Backspace)
-        deadline = time.perf_counter() + 5
-        while len(ready) == before and time.perf_counter() < deadline:
-            app.processEvents()
-        if len(ready) == before:
-            raise RuntimeError(f"edit {i} in {key} produced no plan")
-        app.processEvents()  # the repaint requests the new data posted
-        dt = (time.perf_counter() - t0) * 1000
+        _watch_window(window, clock)  # caution rows made by the last plan
+        return _one_edit(app, clock, edit, Qt.Key.Key_5 if grow else Qt.Key.Key_Backspace, ready)
+
+    def floor_edit(i: int) -> tuple[float, float, float, float]:
+        return _one_edit(app, clock, floor.edit, Qt.Key.Key_5 if i % 2 == 0 else Qt.Key.Key_Backspace, floor.ready)
+
+    for i in range(n + 10):
+        a = ventset_edit(i)
+        b = floor_edit(i)
         if i >= 10:  # the first few warm caches
-            times.append(dt)
+            for j, k in enumerate(("numbers", "views", "numbers_cpu", "views_cpu")):
+                out[k].append(a[j])
+                out["floor_" + k].append(b[j])
+    if rss_edits:  # the edit index runs on, so that every field goes on growing and shrinking by turns
+        gc.collect()
+        r0 = _rss_mb()
+        for i in range(n + 10, n + 10 + rss_edits):
+            ventset_edit(i)
+        gc.collect()
+        out["rss_growth_mb"] = [_rss_mb() - r0]
+        r0 = _rss_mb()
+        for i in range(n + 10, n + 10 + rss_edits):
+            floor_edit(i)
+        gc.collect()
+        out["rss_growth_floor_mb"] = [_rss_mb() - r0]
+    out["undo_steps"] = [float(window.undo.count())]
     window.hide()  # not close(): the case panel would ask whether to save the edited patient
-    return times
+    floor.win.hide()
+    return out
 
 
-def settings_map_ms(n: int = 60) -> float:
+# ------------------------------------------------------------------------------------------ core
+def settings_map_runs(n: int = 60) -> tuple[float, float]:
+    """Median milliseconds of the 200 × 200 map, and of the numpy floor (the same grid, one equation)."""
+    import numpy as np
+
     from ventset.demo import demo_request
     from ventset.library import load_library
     from ventset.planner import plan
@@ -121,12 +336,17 @@ def settings_map_ms(n: int = 60) -> float:
 
     lib = load_library()
     p = plan(demo_request(lib), lib)
-    out = []
+    out, floor = [], []
     for _ in range(n):
         t0 = time.perf_counter()
         settings_map(p, 200, 200, lib)
         out.append((time.perf_counter() - t0) * 1000)
-    return statistics.median(out)
+        t0 = time.perf_counter()
+        vt, f = np.meshgrid(np.linspace(1, 400, 200), np.linspace(4, 40, 200))
+        va = f * (vt * 0.95 - 30.0)
+        np.where(va > 0, 200.0 * 0.863 / np.maximum(va, 1e-9) * 1000, np.inf)
+        floor.append((time.perf_counter() - t0) * 1000)
+    return statistics.median(out), statistics.median(floor)
 
 
 def sweep_vs_plan(n: int = 10_000, repeats: int = 15) -> dict:
@@ -166,42 +386,86 @@ def _pct(xs: list[float], q: float) -> float:
     return s[min(len(s) - 1, int(round(q * (len(s) - 1))))]
 
 
+def _ratio(a: float, b: float) -> float:
+    return round(a / b, 2) if b > 0 else float("nan")
+
+
+def edit_figures(ns: argparse.Namespace) -> dict:
+    e = edit_runs(ns.edits, ns.with_panels, ns.rss_edits)
+    r: dict = {}
+    for name, key in (("edit_to_numbers_ms", "numbers"), ("edit_to_views_ms", "views"),
+                      ("edit_to_numbers_cpu_ms", "numbers_cpu"), ("edit_to_views_cpu_ms", "views_cpu")):
+        xs, fl = e[key], e["floor_" + key]
+        for q, tag in ((0.5, "p50"), (0.95, "p95")):
+            r[f"{name}_{tag}"] = round(_pct(xs, q), 2)
+            r[f"{name}_{tag}_floor"] = round(_pct(fl, q), 2)
+            r[f"{name}_{tag}_ratio"] = _ratio(_pct(xs, q), _pct(fl, q))
+        r[f"{name}_max"] = round(max(xs), 2)
+    r["edits"] = len(e["views"])
+    r["with_panels"] = ns.with_panels
+    if "rss_growth_mb" in e:
+        r[f"rss_growth_mb_{ns.rss_edits}_edits"] = round(e["rss_growth_mb"][0], 2)
+        r[f"rss_growth_mb_{ns.rss_edits}_edits_floor"] = round(e["rss_growth_floor_mb"][0], 2)
+    r["undo_steps_kept"] = int(e["undo_steps"][0])
+    return r
+
+
+def process_figures(ns: argparse.Namespace, env: dict, tmp: str) -> dict:
+    py = sys.executable
+    # `python -m ventset` from the project folder: the checkout measured, not whichever one is installed.
+    ventset_cmd = [py, "-m", "ventset"]
+    floor_py = os.path.join(tmp, "floor.py")
+    Path(floor_py).write_text(FLOOR_SCRIPT, encoding="utf-8")
+    n = ns.runs
+    r: dict = {}
+    cold = _pairs(([py, "-m", "ventset"], dict(env, VENTSET_GUI_SMOKE="1"), "ready"), ([py, floor_py], env, "ready"), n)
+    r.update(cold_start_s=round(cold["a"], 3), cold_start_s_floor=round(cold["b"], 3),
+             cold_start_s_ratio=round(cold["ratio"], 2))
+    plan = [*ventset_cmd, "plan", "--species", "dog"]
+    cli = _pairs(([*plan, "--mass", "20 kg"], env, None), ([py, "-c", "pass"], env, None), n)
+    r.update(cli_plan_s=round(cli["a"], 3), cli_plan_s_floor=round(cli["b"], 3),
+             cli_plan_s_ratio=round(cli["ratio"], 2))
+    # 44 lb = 19.958 kg; 5.3 kPa = 39.753 mmHg (ventset.units constants): the same plan in the internal units.
+    units = _pairs(([*plan, "--mass", "44 lb", "--target-paco2", "5.3 kPa"], env, None),
+                   ([*plan, "--mass", "19.958", "--target-paco2", "39.753"], env, None), n)
+    r.update(cli_units_s=round(units["a"], 3), cli_units_s_floor=round(units["b"], 3),
+             cli_units_s_ratio=round(units["ratio"], 2))
+    lib = _pairs(([py, "-c", "import PySide6.QtWidgets, numpy, pyqtgraph"], env, None),
+                 ([py, "-c", "pass"], env, None), n)
+    r.update(library_import_s=round(lib["a"], 3), python_start_s=round(lib["b"], 3))
+    return r
+
+
 def main() -> int:
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap = argparse.ArgumentParser(description=(__doc__ or "").splitlines()[0])
     ap.add_argument("--json", action="store_true", help="print one JSON object")
-    ap.add_argument("--edits", type=int, default=200)
+    ap.add_argument("--edits", type=int, default=200, help="timed edits (after 10 warm-up edits)")
+    ap.add_argument("--rss-edits", type=int, default=2000, help="edits between the two memory readings (0: skip)")
+    ap.add_argument("--runs", type=int, default=7, help="pairs of whole processes per figure")
+    ap.add_argument("--only", choices=("edits", "processes", "map"), help="measure one group only")
     ap.add_argument("--with-panels", action="store_true",
                     help="also install the add-on panels (case files, anaesthetic record) before timing edits")
     ns = ap.parse_args()
     with tempfile.TemporaryDirectory() as tmp:
         env = _env(tmp)
-        os.environ.update(VENTSET_SETTINGS_DIR=env["VENTSET_SETTINGS_DIR"], VENTSET_DATA_DIR=env["VENTSET_DATA_DIR"],
-                          QT_QPA_PLATFORM="offscreen", QT_LOGGING_RULES="qt.qpa.*=false")
-        py = sys.executable
-        ventset_cmd = [str(Path(py).with_name("ventset"))] if Path(py).with_name("ventset").exists() else \
-            [py, "-m", "ventset"]
-        result = {}
-        edits = edit_to_views(ns.edits, ns.with_panels)
-        result["edit_to_views_ms_p50"] = round(statistics.median(edits), 2)
-        result["edit_to_views_ms_p95"] = round(_pct(edits, 0.95), 2)
-        result["edit_to_views_ms_max"] = round(max(edits), 2)
-        result["edits"] = len(edits)
-        result["with_panels"] = ns.with_panels
-        result["settings_map_ms"] = round(settings_map_ms(), 3)
-        result.update(sweep_vs_plan())
-        result["cold_start_s"] = round(_median_runs([py, "-m", "ventset"], dict(env, VENTSET_GUI_SMOKE="1"),
-                                                    until="ready"), 3)
-        result["cli_plan_s"] = round(_median_runs([*ventset_cmd, "plan", "--species", "dog", "--mass", "20 kg"],
-                                                  env), 3)
-        result["library_import_s"] = round(_median_runs(
-            [py, "-c", "import PySide6.QtWidgets, numpy, pyqtgraph"], dict(env, PYQTGRAPH_QT_LIB="PySide6")), 3)
-        result["python_start_s"] = round(_median_runs([py, "-c", "pass"], env), 3)
+        os.environ.update({k: env[k] for k in ("VENTSET_SETTINGS_DIR", "VENTSET_DATA_DIR", "QT_QPA_PLATFORM",
+                                               "QT_LOGGING_RULES", "PYQTGRAPH_QT_LIB")})
+        result: dict = {}
+        if ns.only in (None, "edits"):
+            result.update(edit_figures(ns))
+        if ns.only in (None, "map"):
+            m, f = settings_map_runs()
+            result.update(settings_map_ms=round(m, 3), settings_map_ms_floor=round(f, 3),
+                          settings_map_ms_ratio=_ratio(m, f))
+            result.update(sweep_vs_plan())
+        if ns.only in (None, "processes"):
+            result.update(process_figures(ns, env, tmp))
         result["cpus"] = os.cpu_count()
     if ns.json:
         print(json.dumps(result))
     else:
         for k, v in result.items():
-            print(f"{k:24} {v}")
+            print(f"{k:36} {v}")
     return 0
 
 

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ventset.evaluate import Subject, evaluate, evaluate_grid
+from ventset.evaluate import GridEvaluation, Subject, evaluate, evaluate_grid
 from ventset.library import Library
 from ventset.model import Plan
 from ventset.physiology import deadspace, gas, mechanics
@@ -182,10 +182,12 @@ class SettingsMap:
     band_mmhg: tuple[float, float]
 
 
-def zones(plan: Plan, vt_ml: np.ndarray, rate_per_min: np.ndarray, library: Library | None = None) -> np.ndarray:
-    """Zone index (ZONE_*) for each (rate, tidal volume) pair on the outer grid (rows = rates)."""
+def zones(plan: Plan, vt_ml: np.ndarray, rate_per_min: np.ndarray, library: Library | None = None,
+          grid: GridEvaluation | None = None) -> np.ndarray:
+    """Zone index (ZONE_*) for each (rate, tidal volume) pair on the outer grid (rows = rates); ``grid`` is
+    ``evaluate_grid`` of the same axes when the caller has it already."""
     s, lim = subject_of(plan), plan.limits
-    g = evaluate_grid(s, vt_ml, rate_per_min)
+    g = grid if grid is not None else evaluate_grid(s, vt_ml, rate_per_min)
     vt, rate = g.vt_ml[None, :], g.rate_per_min[:, None]
     z = np.zeros(g.paco2_mmhg.shape, dtype=np.uint8)
     outside = ((vt < lim.vt_min_ml - 1e-9) | (vt > lim.vt_max_ml + 1e-9) | (rate < lim.rate_min_per_min - 1e-9)
@@ -206,11 +208,12 @@ def settings_map(plan: Plan, n_vt: int = 200, n_rate: int = 200, library: Librar
     (v0, v1), (r0, r1) = ranges or map_ranges(plan)
     vt = v0 + (np.arange(n_vt) + 0.5) * (v1 - v0) / n_vt
     rate = r0 + (np.arange(n_rate) + 0.5) * (r1 - r0) / n_rate
-    pa = evaluate_grid(subject_of(plan), vt, rate).paco2_mmhg
+    grid = evaluate_grid(subject_of(plan), vt, rate)
+    pa = grid.paco2_mmhg
     target = plan.ventilation.target_paco2_mmhg
     band = (target - BAND_HALF_WIDTH_MMHG, target + BAND_HALF_WIDTH_MMHG)
     in_band = (pa >= band[0]) & (pa <= band[1])
-    z = zones(plan, vt, rate, library)
+    z = zones(plan, vt, rate, library, grid)
     cell = z + np.uint8(N_ZONES) * in_band.astype(np.uint8)
     return SettingsMap(vt, rate, pa, z, in_band, cell, (v0, v1), (r0, r1), band)
 

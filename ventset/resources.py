@@ -7,6 +7,7 @@ same files, e.g. a test's mutated copy or a data set under review.
 from __future__ import annotations
 
 import os
+from functools import lru_cache
 from importlib.resources import files
 from pathlib import Path
 
@@ -20,6 +21,12 @@ def resource_dir(folder: Path | str | None = None) -> Path:
     override = os.environ.get(RESOURCES_DIR_ENV, "").strip()
     if override:
         return Path(override)
+    return _shipped_dir()
+
+
+@lru_cache(maxsize=1)
+def _shipped_dir() -> Path:
+    """Where the shipped files are (looked up once: an installed package does not move while it runs)."""
     packaged = files("ventset") / "_resources"
     if (packaged / "species.toml").is_file():
         return Path(str(packaged))

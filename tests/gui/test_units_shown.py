@@ -32,6 +32,7 @@ def test_tiles_status_and_derived_are_the_presentation_rows(qtbot, window):
             (row.name, row.value, row.unit, row.detail)
     assert window.status.patient.text() == patient_line(p, units)
     assert window.status.expect.plainText() == expectation_line(p, units).replace("  ", " ")
+    window.tabs.setCurrentWidget(window.derived)  # a hidden tab draws the plan when it is shown
     shown = {k: (v.text(), u.text()) for k, (_n, v, u) in window.derived.values.items()}
     for _title, rows in derived_sections(p, units):
         for row in rows:
@@ -56,6 +57,7 @@ def test_fio2_and_ie_read_the_same_in_the_window_and_the_text_report(qtbot, wind
 def test_kpa_reaches_the_assumptions_tab_and_every_panel(qtbot, window):
     window.gas_actions["kPa"].trigger()
     settle(window)
+    window.tabs.setCurrentWidget(window.assumptions)  # a hidden tab draws the plan when it is shown
     p = window.controller.plan
     table = {window.assumptions.item(r, 0).text(): window.assumptions.item(r, 1).text()
              for r in range(window.assumptions.rowCount())}

@@ -110,6 +110,7 @@ def test_switching_gas_units_changes_no_value(qtbot, window):
     assert window.form.rows["target-paco2"].edit.text() == "6"  # 5.9995 to 4 significant figures
     assert window.form.rows["target-paco2"].unit.currentData() == "kPa"
     assert "kPa" in window.status.expect.text()
+    window.tabs.setCurrentWidget(window.derived)  # a hidden tab draws when it is shown
     assert "kPa" in window.derived.values["paco2"][2].text()
     shown = [msg for _sev, _code, msg in window.cautions.shown()]
     assert any("kPa" in m for m in shown) and not any("mmHg" in m for m in shown)  # cautions follow the unit

@@ -4,24 +4,44 @@ Other panels (case files, titration) talk to the window through this object:
 ``set_request(request)`` replaces the whole request in one batch (one replan), ``plan_ready(Plan)``
 and ``plan_invalid(list[InputError])`` report the outcome. Bursts of edits are coalesced by a
 zero-delay single-shot timer, so typing fast replans once per event-loop pass.
+
+The update comes in two phases. ``plan_ready`` is for the numbers (the settings, status and cautions):
+they are set and painted in the pass that made the plan, the frame of the keystroke. ``plan_views``
+follows with the same plan once that paint is done, for what is drawn (the plots, other tabs): it is
+posted at the window's own paint priority, after the repaint the numbers asked for, so the numbers are
+on screen before the plots start. Edits in between coalesce: the views draw the latest plan once.
+``flush()`` runs both phases at once.
 """
 
 from __future__ import annotations
 
 import sys
 
-from PySide6.QtCore import QObject, QTimer, Signal
+from PySide6.QtCore import QCoreApplication, QEvent, QObject, Qt, QTimer, Signal
 
 from ventset.errors import InputError
 from ventset.library import Library, load_library
 from ventset.model import Plan, Request
 from ventset.planner import plan as make_plan
 
+_VIEWS_DUE = QEvent.Type(QEvent.registerEventType())  # the posted event that starts the second phase
+_LAYOUT_PASSES = 3  # a layout that resizes its parent asks the parent's layout in turn (row → list → scroll area)
+# Passes the views wait after the numbers' repaint: a widget's first paint can ask for one more repaint,
+# which Qt posts for the next pass and paints in the pass after that.
+_VIEW_HOPS = 3
+
+
+class _ViewsDue(QEvent):
+    def __init__(self, hop: int) -> None:
+        super().__init__(_VIEWS_DUE)
+        self.hop = hop
+
 
 class PlanController(QObject):
     """The one place a plan is made for the window."""
 
-    plan_ready = Signal(object)        # Plan
+    plan_ready = Signal(object)        # Plan: the numbers, in this pass
+    plan_views = Signal(object)        # the same Plan after this pass has painted: plots and other drawn views
     plan_invalid = Signal(list)        # list[InputError]; the last valid plan stays on screen (stale)
     request_changed = Signal(object)   # Request set from outside the form: the form shows it
 
@@ -37,6 +57,7 @@ class PlanController(QObject):
         self._timer.setInterval(0)
         self._timer.timeout.connect(self.replan_now)
         self._flush_hooks: list = []  # input held back while typing (the form's debounce): handed over by flush()
+        self._views_due = False
 
     @property
     def stale(self) -> bool:
@@ -69,12 +90,38 @@ class PlanController(QObject):
         self._flush_hooks.append(hook)
 
     def flush(self) -> None:
-        """Run a pending replan now (tests, and before reading ``plan`` synchronously)."""
+        """Run a pending replan and the views it is due now (tests, and before reading ``plan`` synchronously)."""
         for hook in self._flush_hooks:
             hook()
         if self._timer.isActive():
             self._timer.stop()
             self.replan_now()
+        self.flush_views()
+
+    def flush_views(self) -> None:
+        """Emit ``plan_views`` now if it is due (the posted event that would have done it then does nothing)."""
+        if self._views_due:
+            self._views_due = False
+            if self.plan is not None:
+                self.plan_views.emit(self.plan)
+
+    def _post_views(self, hop: int = 0) -> None:
+        if hop == 0:
+            if self._views_due:
+                return
+            self._views_due = True
+        # Low priority, as Qt posts a window's repaint: delivered after the repaint posted before it.
+        QCoreApplication.postEvent(self, _ViewsDue(hop), Qt.EventPriority.LowEventPriority.value)
+
+    def event(self, e: QEvent) -> bool:
+        if e.type() == _VIEWS_DUE:
+            hop = e.hop if isinstance(e, _ViewsDue) else _VIEW_HOPS
+            if hop + 1 < _VIEW_HOPS and self._views_due:
+                self._post_views(hop + 1)  # behind the repaints the last pass posted
+            else:
+                self.flush_views()
+            return True
+        return super().event(e)
 
     def replan_now(self) -> None:
         if self._pending_errors is not None:
@@ -99,3 +146,10 @@ class PlanController(QObject):
         self.errors = []
         self.plan = result
         self.plan_ready.emit(result)
+        # The layouts the new numbers asked for (a caution row shown or hidden, a text that now wraps) and the
+        # repaints Qt defers by one pass (a widget just shown) are done now, so that the coming repaint shows
+        # them in this frame rather than after the views.
+        for _ in range(_LAYOUT_PASSES):
+            QCoreApplication.sendPostedEvents(None, QEvent.Type.LayoutRequest)
+            QCoreApplication.sendPostedEvents(None, QEvent.Type.UpdateLater)
+        self._post_views()

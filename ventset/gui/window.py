@@ -48,6 +48,8 @@ from ventset.library import Library, load_library
 from ventset.model import Plan, Request
 from ventset.report import plan_to_text
 
+UNDO_STEPS = 200  # undo history kept (the oldest steps are dropped): bounded memory over a long session
+
 # Panels added by other modules: each defines install(window), called by ventset.gui.app.run() after the
 # window is built (a failing panel is reported on stderr and the planning window still opens).
 EXTENSIONS: tuple[str, ...] = ("ventset.gui.case_ui", "ventset.gui.timeline", "ventset.gui.aquatic_panel",
@@ -93,6 +95,7 @@ class MainWindow(QMainWindow):
         self.library = library or load_library()
         self.controller = PlanController(self.library, self)
         self.undo = QUndoStack(self)
+        self.undo.setUndoLimit(UNDO_STEPS)
         self.setWindowTitle("ventset — starting ventilator settings")
         from ventset.gui.theme import app_icon
 
@@ -109,6 +112,8 @@ class MainWindow(QMainWindow):
         self._build_central()
         self._build_menus()
         self.controller.plan_ready.connect(self._show_plan)
+        self.controller.plan_views.connect(self._show_views)
+        self.tabs.currentChanged.connect(self._tab_shown)
         self.controller.plan_invalid.connect(self._show_invalid)
         self.form.units_changed.connect(self._save_units)
         self.form.gas_unit_changed.connect(self._gas_unit_changed)
@@ -189,6 +194,14 @@ class MainWindow(QMainWindow):
         plots_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         plots_scroll.setWidget(plots)
         self.tabs.addTab(plots_scroll, "Plots")
+        # What each tab draws from a plan: the tab shown draws at once, a hidden one just before it is shown.
+        self._tab_views = {
+            plots_scroll: self._draw_plots,
+            self.assumptions: lambda plan: self.assumptions.show_plan(plan, self.form.gas_unit()),
+            self.derived: lambda plan: self.derived.show_plan(plan, self.form.gas_unit(),
+                                                             self.form.state[fs.UNIT + "mass"])}
+        self._views_due: set = set()
+        self._views_plan: Plan | None = None
         self.tabs.addTab(self.derived, "Derived values")
         self.tabs.addTab(self.assumptions, "Assumptions and sources")
         mid.addWidget(self.tabs, 1)
@@ -320,6 +333,7 @@ class MainWindow(QMainWindow):
 
     # ------------------------------------------------------------------ plan → views
     def _show_plan(self, plan: Plan) -> None:
+        """First phase: every number, painted in the keystroke's frame (the drawn views follow)."""
         gas, mass = self.form.gas_unit(), self.form.state[fs.UNIT + "mass"]
         self.status.show_plan(plan, gas, mass)
         self.status.set_current(True)
@@ -327,18 +341,31 @@ class MainWindow(QMainWindow):
         self.settings_panel.set_stale(False)
         self.cautions.show_plan(plan, gas)
         self.cautions.set_stale(False)
-        self.derived.show_plan(plan, gas, mass)
-        self.assumptions.show_plan(plan, gas)
+        name = plan.request.patient.name
+        self.setWindowTitle(f"ventset — {name or plan.resolved.species_label}")
+
+    def _show_views(self, plan: Plan) -> None:
+        """Second phase: the tab shown draws the plan now; the others when they are shown, before they paint."""
+        self._views_plan = plan
+        self._views_due = set(self._tab_views)
+        self._tab_shown(self.tabs.currentIndex())
+
+    def _tab_shown(self, index: int) -> None:
+        page = self.tabs.widget(index)
+        if page in self._views_due and self._views_plan is not None:
+            self._views_due.discard(page)
+            self._tab_views[page](self._views_plan)
+
+    def _draw_plots(self, plan: Plan) -> None:
+        gas = self.form.gas_unit()
         self.breath_plot.show_plan(plan)
         self.map_plot.show_plan(plan, gas)
         self.wave_plot.show_plan(plan)
         self.sens_plot.show_plan(plan, gas)
         for card in self.plot_cards:
-            card.set_stale(False)
+            card.set_stale(self.controller.stale)
         if not any(card.isVisibleTo(self.plots_page) for card in self.plot_cards):  # after a new case
             self._enlarge(next((c for c in self.plot_cards if c.zoom.isChecked()), None))
-        name = plan.request.patient.name
-        self.setWindowTitle(f"ventset — {name or plan.resolved.species_label}")
 
     def _show_invalid(self, errors: list[InputError]) -> None:
         key = fs.error_key(errors[0]) if errors else ""
@@ -371,6 +398,7 @@ class MainWindow(QMainWindow):
         if self.controller.plan is not None:
             stale = self.controller.stale
             self._show_plan(self.controller.plan)
+            self._show_views(self.controller.plan)
             if stale:
                 self._show_invalid(self.controller.errors)
 
