@@ -120,7 +120,7 @@ class PlotCard(QFrame):
 
 
 def _new_plot_widget(parent: QWidget) -> pg.PlotWidget:
-    w = pg.PlotWidget(parent)
+    w = pg.PlotWidget(parent, enableMenu=False)  # no context menus: not built at all (a third of a plot's making)
     w.setMenuEnabled(False)
     w.setMouseEnabled(x=False, y=False)
     w.hideButtons()
@@ -530,7 +530,7 @@ class WaveformPlot(PlotCard):
         self.widget.setMinimumHeight(self.fontMetrics().height() * 12)
         self.plots: list[pg.PlotItem] = []
         for i, unit in enumerate(("cmH2O", "L/min", "mL")):
-            p = self.widget.addPlot(row=i, col=0)
+            p = self.widget.addPlot(row=i, col=0, enableMenu=False)
             p.setMenuEnabled(False)
             p.setMouseEnabled(x=False, y=False)
             p.hideButtons()
