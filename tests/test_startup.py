@@ -44,3 +44,31 @@ def test_a_command_still_goes_through_the_parser(monkeypatch, args):
     monkeypatch.setattr(cli, "_cmd_gui", lambda ns: 0)
     assert cli.main(args) == 0
     assert built == [1]  # once
+
+
+def _modules_after(code: str) -> set[str]:
+    import json
+    import subprocess
+    import sys
+
+    out = subprocess.run([sys.executable, "-c", code + "\nimport sys, json; print(json.dumps(sorted(sys.modules)))"],
+                         capture_output=True, text=True, check=True)
+    return set(json.loads(out.stdout.splitlines()[-1]))
+
+
+def test_building_the_parser_loads_no_command_s_model():
+    loaded = _modules_after("from ventset.cli import build_parser; build_parser()")
+    # Each of these is loaded by its own command when it runs, not to register the command.
+    assert not loaded & {"ventset.validation", "ventset.validation_data", "ventset.aquatic.irrigation",
+                         "ventset.aquatic.data", "ventset.cases", "ventset.titrate"}
+
+
+def test_the_aquatic_package_still_offers_its_names():
+    from ventset.aquatic import IrrigationRequest, irrigation_to_dict, plan_irrigation
+    from ventset.aquatic.irrigation import plan_irrigation as direct
+
+    assert plan_irrigation is direct and callable(irrigation_to_dict) and IrrigationRequest.__name__
+    with pytest.raises(AttributeError):
+        import ventset.aquatic
+
+        ventset.aquatic.no_such_name  # noqa: B018
