@@ -73,9 +73,11 @@ def _env(tmp: str) -> dict:
     env = dict(os.environ)
     # Byte-code caches as an installed program has them (the warm-up run of each command writes them).
     env.pop("PYTHONDONTWRITEBYTECODE", None)
+    # The parsed-data cache in the run's own folder: a user has one copy of the data files, but the user cache
+    # folder of a shared machine may be rewritten between runs by other checkouts with other data.
     env.update(QT_QPA_PLATFORM="offscreen", VENTSET_SETTINGS_DIR=os.path.join(tmp, "settings"),
-               VENTSET_DATA_DIR=os.path.join(tmp, "data"), QT_LOGGING_RULES="qt.qpa.*=false",
-               PYQTGRAPH_QT_LIB="PySide6")
+               VENTSET_DATA_DIR=os.path.join(tmp, "data"), VENTSET_CACHE_DIR=os.path.join(tmp, "cache"),
+               QT_LOGGING_RULES="qt.qpa.*=false", PYQTGRAPH_QT_LIB="PySide6")
     return env
 
 
@@ -448,8 +450,8 @@ def main() -> int:
     ns = ap.parse_args()
     with tempfile.TemporaryDirectory() as tmp:
         env = _env(tmp)
-        os.environ.update({k: env[k] for k in ("VENTSET_SETTINGS_DIR", "VENTSET_DATA_DIR", "QT_QPA_PLATFORM",
-                                               "QT_LOGGING_RULES", "PYQTGRAPH_QT_LIB")})
+        os.environ.update({k: env[k] for k in ("VENTSET_SETTINGS_DIR", "VENTSET_DATA_DIR", "VENTSET_CACHE_DIR",
+                                               "QT_QPA_PLATFORM", "QT_LOGGING_RULES", "PYQTGRAPH_QT_LIB")})
         result: dict = {}
         if ns.only in (None, "edits"):
             result.update(edit_figures(ns))

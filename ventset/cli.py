@@ -212,14 +212,21 @@ def main(argv: Sequence[str] | None = None) -> int:
     """Entry point; returns the exit status (2 for bad input, naming the field)."""
     _safe_streams()
     args = list(sys.argv[1:] if argv is None else argv)
+    if not args:  # the window: no parser to build (it imports every command's module, a tenth of the start-up)
+        return _run(_cmd_gui, argparse.Namespace(command=None), None)
     parser = build_parser()
     ns = parser.parse_args(file_args(args, parser))
     handlers = {"plan": _cmd_plan, "species": _cmd_species, "parts": _cmd_parts, "gui": _cmd_gui,
                 "demo": lambda _ns: run_demo(), None: _cmd_gui, **ns._handlers}
+    return _run(handlers[ns.command], ns, parser)
+
+
+def _run(handler, ns: argparse.Namespace, parser: argparse.ArgumentParser | None) -> int:
+    """Run one command; bad input is one line naming the field (exit 2), never a traceback."""
     try:
-        return handlers[ns.command](ns)
+        return handler(ns)
     except InputError as err:
-        say(str(shown_error(err, _options(parser, ns.command))))
+        say(str(shown_error(err, _options(parser, ns.command) if parser is not None else set())))
         return 2
     except DataError as err:
         say(f"data file problem: {err}")

@@ -10,17 +10,23 @@ from __future__ import annotations
 import argparse
 import json
 from pathlib import Path
-from typing import cast
+from typing import TYPE_CHECKING, cast
 
-from ventset import cases, partslib, storage
+from ventset.case_model import SUFFIX
 from ventset.cli_support import print_json, say
 from ventset.errors import InputError, VentsetError
 from ventset.model import Plan
+from ventset.partslib_model import CONFLICT_CHOICES
+
+if TYPE_CHECKING:  # the case and parts modules load when a command uses them, not when the parser is built
+    from ventset import partslib
 
 _say = say
 
 
 def _is_file(path: Path) -> bool:
+    from ventset import cases, storage
+
     try:
         return path.is_file()
     except OSError as exc:
@@ -67,7 +73,7 @@ def register(sub, add_request_options) -> dict:
     p_exp.add_argument("file")
     p_imp = cp.add_parser("import", help="merge a shared clinic library file into this machine's")
     p_imp.add_argument("file")
-    p_imp.add_argument("--on-conflict", choices=partslib.CONFLICT_CHOICES, default="keep",
+    p_imp.add_argument("--on-conflict", choices=CONFLICT_CHOICES, default="keep",
                        help="same name, different values: keep this machine's (default), import under a new "
                             "name, or replace this machine's")
     return {"show": _cmd_show, "clinic-parts": _cmd_clinic_parts}
@@ -75,7 +81,7 @@ def register(sub, add_request_options) -> dict:
 
 def extend_plan(p_plan: argparse.ArgumentParser) -> None:
     """`ventset plan --save CASE --pdf FILE`."""
-    p_plan.add_argument("--save", metavar="CASE", help=f"also save the case to this file (e.g. dog{cases.SUFFIX}); "
+    p_plan.add_argument("--save", metavar="CASE", help=f"also save the case to this file (e.g. dog{SUFFIX}); "
                         "an existing case with other inputs is kept unless --replace is given")
     p_plan.add_argument("--replace", action="store_true", help="with --save: replace an existing case file")
     p_plan.add_argument("--pdf", metavar="FILE", help="also write the printed plan as PDF")
@@ -85,6 +91,7 @@ def extend_plan(p_plan: argparse.ArgumentParser) -> None:
 
 def after_plan(ns: argparse.Namespace, request, plan) -> None:
     """Save the case and/or write the PDF the options asked for (messages to stderr)."""
+    from ventset import cases
     from ventset.library import load_library
 
     if getattr(ns, "save", None):
@@ -120,6 +127,7 @@ def write_pdf(plan, path: str, gas_unit: str = "mmHg", case_name: str = "", pape
 
 
 def _cmd_show(ns: argparse.Namespace) -> int:
+    from ventset import cases
     from ventset.case_irrigation import OpenedIrrigationCase, open_any_case
     from ventset.library import load_library
     from ventset.report import plan_to_dict, plan_to_text
@@ -158,6 +166,8 @@ def print_case(path: str, gas_unit: str = "mmHg") -> int:
 
 
 def _resolve_part(text: str, clinic: partslib.ClinicLibrary, library):
+    from ventset import partslib
+
     def mine(name: str):
         part = clinic.part(name)
         return part.as_apparatus() if part is not None else None
@@ -166,6 +176,7 @@ def _resolve_part(text: str, clinic: partslib.ClinicLibrary, library):
 
 
 def _cmd_clinic_parts(ns: argparse.Namespace) -> int:
+    from ventset import partslib
     from ventset.library import load_library
 
     cmd = ns.clinic_command
@@ -202,6 +213,8 @@ def _cmd_clinic_parts(ns: argparse.Namespace) -> int:
 
 
 def _list(ns: argparse.Namespace, lib: partslib.ClinicLibrary) -> int:
+    from ventset import partslib
+
     rows = [r for r in partslib.all_parts(lib) if ns.all or r.origin == "clinic"]
     if ns.json:
         doc = partslib.library_to_dict(lib)

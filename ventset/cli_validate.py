@@ -3,9 +3,12 @@
 from __future__ import annotations
 
 import argparse
+from typing import TYPE_CHECKING
 
 from ventset.model import STANDING_NOTICE
-from ventset.validation import Result, result_to_dict, run, summarise
+
+if TYPE_CHECKING:  # the model and its data are loaded by the command itself, not when the parser is built
+    from ventset.validation import Result
 
 
 def register(sub, add_request_options) -> dict:
@@ -21,6 +24,7 @@ def register(sub, add_request_options) -> dict:
 
 def _selected(ns: argparse.Namespace) -> tuple[Result, ...]:
     from ventset.errors import InputError
+    from ventset.validation import run
     from ventset.validation_data import load_validation
 
     rows = load_validation()
@@ -43,6 +47,8 @@ def _line(r: Result) -> str:
 
 def results_text(results: tuple[Result, ...]) -> str:
     """The plain-text table and summary."""
+    from ventset.validation import summarise
+
     s = summarise(results)
     head = (f"{'id':<34} {'species':<12} {'kind':<8} {'quantity':<27} {'published':>14} {'predicted':>9} "
             f"{'within':>6}  detail")
@@ -68,6 +74,7 @@ def results_text(results: tuple[Result, ...]) -> str:
 
 def _cmd_validate(ns: argparse.Namespace) -> int:
     from ventset.cli import print_json
+    from ventset.validation import result_to_dict, summarise
 
     results = _selected(ns)
     if ns.json:

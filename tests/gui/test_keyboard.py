@@ -113,6 +113,7 @@ def test_the_record_tab_is_walked_before_the_cautions(qtbot, full_window):
     w = full_window
     record = w._panels["Anaesthetic record"]
     w.tabs.setCurrentWidget(record)
+    record = record.panel()  # built when its tab is first shown (ondemand.py)
     settle(w)
     seen = _walk(qtbot, w.form.name_edit)
     assert record.table in seen and seen.count(record.table) == 1
@@ -224,6 +225,7 @@ def test_high_contrast_gives_every_input_a_visible_border(qtbot, full_window):
     w = full_window
     record = w._panels["Anaesthetic record"]
     w.tabs.setCurrentWidget(record)
+    record = record.panel()  # built when its tab is first shown (ondemand.py)
     w.set_theme("contrast")
     settle(w)
     style = w.styleSheet()

@@ -6,8 +6,23 @@ fish's O2 need (:mod:`.metabolism`), the flow that meets it and the checks aroun
 resources/aquatic.toml, read by :func:`.data.load_aquatic_data`. CLI: ``ventset irrigate`` (:mod:`.cli`).
 """
 
-from ventset.aquatic.irrigation import IrrigationPlan, IrrigationRequest, plan_irrigation, request_from_texts
-from ventset.aquatic.report import irrigation_from_dict, irrigation_to_dict, irrigation_to_text, printout_lines
+from __future__ import annotations
+
+import importlib
+from typing import Any
+
+# Imported when first used (PEP 562), so that ``ventset plan``, which only registers ``ventset irrigate``, does not
+# load the aquatic data and model.
+_FROM = {"IrrigationPlan": "irrigation", "IrrigationRequest": "irrigation", "plan_irrigation": "irrigation",
+         "request_from_texts": "irrigation", "irrigation_from_dict": "report", "irrigation_to_dict": "report",
+         "irrigation_to_text": "report", "printout_lines": "report"}
 
 __all__ = ["IrrigationPlan", "IrrigationRequest", "irrigation_from_dict", "irrigation_to_dict", "irrigation_to_text",
            "plan_irrigation", "printout_lines", "request_from_texts"]
+
+
+def __getattr__(name: str) -> Any:
+    module = _FROM.get(name)
+    if module is None:
+        raise AttributeError(f"module 'ventset.aquatic' has no attribute {name!r}")
+    return getattr(importlib.import_module(f"ventset.aquatic.{module}"), name)

@@ -364,6 +364,14 @@ class AquaticPanel(QWidget):
 
 def install(window) -> AquaticPanel:
     """Add the panel to ventset's MainWindow as the tab "Fish irrigation"; entries persist in its settings."""
+    panel = attach(window)
+    window.add_panel("Fish irrigation", panel)
+    return panel
+
+
+def attach(window, parent: QWidget | None = None) -> AquaticPanel:
+    """The panel wired to ``window`` as ``install`` wires it, but not added to it (for a tab that builds its
+    panel when first shown: ventset.gui.ondemand)."""
     settings = getattr(window, "settings", None)
     stored: dict[str, str] = {}
     if settings is not None:
@@ -371,7 +379,7 @@ def install(window) -> AquaticPanel:
             value = settings.value(f"aquatic/{key}")
             if isinstance(value, str):
                 stored[key] = value
-    panel = AquaticPanel(None, stored, parent=window)
+    panel = AquaticPanel(None, stored, parent=parent or window)
 
     def save(_plan: object = None) -> None:
         if settings is not None:
@@ -383,5 +391,4 @@ def install(window) -> AquaticPanel:
     if hasattr(window, "theme_changed"):
         window.theme_changed.connect(panel.set_theme)
         panel.set_theme(window.theme)
-    window.add_panel("Fish irrigation", panel)
     return panel

@@ -7,7 +7,7 @@ import math
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import QPointF, QRectF, Qt, Signal
+from PySide6.QtCore import QRectF, Qt, Signal
 from PySide6.QtGui import QBrush, QColor, QPen, QPixmapCache
 from PySide6.QtWidgets import (
     QBoxLayout,
@@ -170,7 +170,7 @@ class PlotPage(QWidget):
 
 
 def _new_plot_widget(parent: QWidget) -> pg.PlotWidget:
-    w = pg.PlotWidget(parent)
+    w = pg.PlotWidget(parent, enableMenu=False)  # no context menus: not built at all (a third of a plot's making)
     w.setMenuEnabled(False)
     w.setMouseEnabled(x=False, y=False)
     w.hideButtons()
@@ -195,6 +195,20 @@ def _set_text(item: pg.TextItem, text: str, html: bool = False) -> None:
             item.setHtml(text)
         else:
             item.setText(text)
+
+
+def _show(item, on: bool) -> None:
+    """Show or hide a plot item only when that changes (showing a label recomputes its transform)."""
+    if getattr(item, "_on", None) != on:
+        item._on = on
+        item.setVisible(on)
+
+
+def _anchor(item: pg.TextItem, anchor: tuple[float, float]) -> None:
+    """Move a label's anchor only when it changes (a new anchor re-lays the label out)."""
+    if getattr(item, "_anchored", None) != anchor:
+        item._anchored = anchor
+        item.setAnchor(anchor)
 
 
 def _text_item(colour: str, anchor=(0, 0)) -> pg.TextItem:
@@ -279,36 +293,39 @@ class BreathPlot(PlotCard):
         for i, r in enumerate(self.rects):
             lab = self.labels[i]
             if i >= len(segs):
-                r.setVisible(False)
-                lab.setVisible(False)
+                _show(r, False)
+                _show(lab, False)
                 continue
             s = segs[i]
             y = n - 1 - i
             r.setRect(QRectF(s.start_ml, y - 0.34, max(s.volume_ml, 1e-9), 0.68))
-            r.setBrush(QBrush(QColor(t.breath.get(s.category, t.muted))))
-            r.setPen(_pen(t.plot_fg, 0.8))
-            r.setVisible(True)
+            look = (t.breath.get(s.category, t.muted), t.plot_fg)
+            if getattr(r, "_look", None) != look:
+                r._look = look
+                r.setBrush(QBrush(QColor(look[0])))
+                r.setPen(_pen(look[1], 0.8))
+            _show(r, True)
             text = f"{fmt(s.volume_ml)} mL"
             _set_text(lab, text)
             need = fm.horizontalAdvance(text) + fm.averageCharWidth()
             colour = t.plot_fg
             if (x_hi - s.end_ml) * ppm >= need:
-                lab.setAnchor((0, 0.5))  # after the bar
+                _anchor(lab, (0, 0.5))  # after the bar
                 lab.setPos(s.end_ml, y)
             elif s.start_ml * ppm >= need:
-                lab.setAnchor((1, 0.5))  # before the bar, in the room the waterfall leaves
+                _anchor(lab, (1, 0.5))  # before the bar, in the room the waterfall leaves
                 lab.setPos(s.start_ml, y)
             elif s.volume_ml * ppm >= need:
-                lab.setAnchor((0.5, 0.5))  # inside a wide bar
+                _anchor(lab, (0.5, 0.5))  # inside a wide bar
                 lab.setPos((s.start_ml + s.end_ml) / 2, y)
                 colour = t.plot_bg
             else:
-                lab.setAnchor((0, 0.5))
+                _anchor(lab, (0, 0.5))
                 lab.setPos(s.end_ml, y)
             if getattr(lab, "_colour", None) != colour:
                 lab._colour = colour
                 lab.setColor(QColor(colour))
-            lab.setVisible(True)
+            _show(lab, True)
             ticks.append((y, _short(s.label)))
         if ticks != self._ticks:
             self._ticks = ticks
@@ -464,14 +481,14 @@ class SettingsMapPlot(PlotCard):
         for i, lab in enumerate(self.iso_labels):
             line = lines[i] if i < len(lines) else None
             if line is None or line.label_at is None:
-                lab.setVisible(False)
+                _show(lab, False)
                 continue
             num = fmt(_gas(line.level_mmhg, gas_unit), 3)
             _set_text(lab, f"<b>{num} target</b>" if line.is_target else num, html=line.is_target)
             left = line.label_at[0] < v0 + 0.3 * (v1 - v0)  # near the left axis: write to the right
-            lab.setAnchor((0, 1) if left else (1, 1))
+            _anchor(lab, (0, 1) if left else (1, 1))
             lab.setPos(*line.label_at)
-            lab.setVisible(True)
+            _show(lab, True)
         lim = plan.limits
         self.box.setData([lim.vt_min_ml, lim.vt_max_ml, lim.vt_max_ml, lim.vt_min_ml, lim.vt_min_ml],
                          [lim.rate_min_per_min, lim.rate_min_per_min, lim.rate_max_per_min, lim.rate_max_per_min,
@@ -488,28 +505,27 @@ class SettingsMapPlot(PlotCard):
             j = finite[0]
             _set_text(self.peak_label, f"{peak_name} > limit")
             self.peak_label.setPos(pv[j], r0 + 0.03 * (r1 - r0))
-            self.peak_label.setVisible(True)
+            _show(self.peak_label, True)
         else:
-            self.peak_label.setVisible(False)
+            _show(self.peak_label, False)
         vt_plat = lim.vt_pressure_max_ml
         self.plateau_line.setPos(vt_plat)
-        self.plateau_line.setVisible(v0 < vt_plat < v1)
+        _show(self.plateau_line, v0 < vt_plat < v1)
         _set_text(self.plateau_label, "plateau > limit")
         self.plateau_label.setPos(vt_plat, r0 + 0.03 * (r1 - r0))
-        self.plateau_label.setVisible(v0 < vt_plat < v1)
+        _show(self.plateau_label, v0 < vt_plat < v1)
         vd = plotdata.all_dead_space_vt_ml(plan)
         self.dead_line.setPos(vd)
-        self.dead_line.setVisible(v0 < vd < v1)
+        _show(self.dead_line, v0 < vd < v1)
         _set_text(self.dead_label, "no gas exchange")
         self.dead_label.setPos(vd, r0 + 0.5 * (r1 - r0))
-        self._dead_at = (vd, v0, v1)
-        self.dead_label.setVisible(v0 < vd < v1)
+        self._dead_at = (vd, v0, v1)  # shown or not by _fit_dead_label below
         trap = plotdata.trapping_rate_per_min(plan, rate_hi=r1)
         self.trap_line.setPos(trap if math.isfinite(trap) else r1 * 2)
-        self.trap_line.setVisible(math.isfinite(trap) and r0 < trap < r1)
+        _show(self.trap_line, math.isfinite(trap) and r0 < trap < r1)
         _set_text(self.trap_label, "↑ expiration under 3 τ")
         self.trap_label.setPos(v0 + (v1 - v0) * 0.02, trap if math.isfinite(trap) else r1 * 2)
-        self.trap_label.setVisible(math.isfinite(trap) and r0 < trap < r1)
+        _show(self.trap_label, math.isfinite(trap) and r0 < trap < r1)
         v = plan.ventilation
         self.point.setData([v.tidal_volume_ml], [v.rate_per_min])
         _set_range(self.plot.vb, (v0, v1), (r0, r1), self.cache)
@@ -522,15 +538,17 @@ class SettingsMapPlot(PlotCard):
         if self.probe_at is not None:
             self._show_probe(*self.probe_at)
         else:
-            self.probe.setData([], [])
+            if self.probe.data.size:
+                self.probe.setData([], [])
             self.readout.setText("Click any point to read its PaCO2 and pressures.")
 
     def _fit_dead_label(self) -> None:
         """Show the 'no gas exchange' label only where the dark zone is wide enough to hold it."""
         vd, v0, v1 = getattr(self, "_dead_at", (0.0, 0.0, 1.0))
         vb = self.plot.vb
-        px = vb.mapViewToScene(QPointF(vd, 0)).x() - vb.mapViewToScene(QPointF(v0, 0)).x()
-        self.dead_label.setVisible(px > self.fontMetrics().horizontalAdvance("no gas exchange") + 6)
+        (x0, x1), _ = vb.viewRange()
+        px = (vd - v0) * vb.width() / (x1 - x0) if x1 > x0 else 0.0  # the view's scale, as it maps to pixels
+        _show(self.dead_label, px > self.fontMetrics().horizontalAdvance("no gas exchange") + 6)
 
     def _clicked(self, ev) -> None:
         if self.plan is None or ev.button() != Qt.MouseButton.LeftButton:
@@ -580,7 +598,7 @@ class WaveformPlot(PlotCard):
         self.widget.setMinimumHeight(self.fontMetrics().height() * 12)
         self.plots: list[pg.PlotItem] = []
         for i, unit in enumerate(("cmH2O", "L/min", "mL")):
-            p = self.widget.addPlot(row=i, col=0)
+            p = self.widget.addPlot(row=i, col=0, enableMenu=False)
             p.setMenuEnabled(False)
             p.setMouseEnabled(x=False, y=False)
             p.hideButtons()
@@ -644,7 +662,7 @@ class WaveformPlot(PlotCard):
                 cache["ticks"] = tk
                 plot.getAxis("left").setTicks([tk, []])
         self.left_line.setPos(w.end_expiratory_ml)
-        self.left_line.setVisible(not w.complete)
+        _show(self.left_line, not w.complete)
         for plot, cache, yr in zip(self.plots, self.caches, (w.pressure_range, w.flow_range, w.volume_range),
                                    strict=True):
             _set_range(plot.vb, w.time_range, yr, cache)
@@ -721,7 +739,7 @@ class SensitivityPlot(PlotCard):
         shown = min(shown, 0.96 * y_hi)
         self.now.setData([s.current_ml], [shown])
         _set_text(self.now_label, "now" if math.isfinite(cur) and cur <= s.y_range[1] else "now (off the scale)")
-        self.now_label.setAnchor((-0.15, 0.5) if s.current_ml < 0.5 * s.x_range[1] else (1.1, 0.5))
+        _anchor(self.now_label, (-0.15, 0.5) if s.current_ml < 0.5 * s.x_range[1] else (1.1, 0.5))
         self.now_label.setPos(s.current_ml, shown)
         _set_range(self.plot.vb, s.x_range, (0.0, y_hi), self.cache)
         v = plan.ventilation

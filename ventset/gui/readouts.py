@@ -411,6 +411,7 @@ class CautionsPanel(QFrame):
             row = CautionRow(self.body)
             self.list.insertWidget(len(self.rows), row)
             self.rows.append(row)
+        self._reorder([c.code for c in cautions])
         for row, c in zip(self.rows, cautions, strict=False):
             row.show_caution(c.severity, c.code, c.text(reader_units(gas_unit)), self.theme)
             row.setVisible(True)
@@ -424,6 +425,20 @@ class CautionsPanel(QFrame):
         for row in self.rows:
             row.setVisible(False)
         self.summary.setText("")
+
+    def _reorder(self, codes: list[str]) -> None:
+        """Give each caution the row that showed it last time (moved into place), so that a caution added or
+        removed above it does not restyle and re-lay out every row below."""
+        kept = {r.code.text(): r for r in self.rows if not r.isHidden()}
+        wanted = [kept.pop(code, None) for code in codes]
+        spare = [r for r in self.rows if all(r is not w for w in wanted)]
+        rows = [w if w is not None else spare.pop(0) for w in wanted] + spare
+        if any(r is not old for r, old in zip(rows, self.rows, strict=True)):
+            for i, row in enumerate(rows):
+                if self.list.indexOf(row) != i:
+                    self.list.removeWidget(row)
+                    self.list.insertWidget(i, row)
+            self.rows = rows
 
     def set_stale(self, stale: bool) -> None:
         self.stale.setText("⚠ These cautions belong to the last valid plan." if stale else "")

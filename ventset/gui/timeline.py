@@ -744,6 +744,14 @@ def install(window) -> TimelinePanel:
     Setting a proposal sets the window's strategy rate and tidal volume per kg (and, when "Plan from the
     measured CO2 output" is ticked, the metabolic rate the measurement implies) with one ``set_request``.
     """
+    panel = attach(window)
+    window.add_panel("Anaesthetic record", panel)
+    return panel
+
+
+def attach(window, parent: QWidget | None = None) -> TimelinePanel:
+    """The record panel wired to ``window`` as ``install`` wires it, but not added to it (for a tab that builds
+    its panel when first shown: ventset.gui.ondemand)."""
     ctl = window.controller
 
     def current_request() -> Request | None:
@@ -757,7 +765,7 @@ def install(window) -> TimelinePanel:
         ctl.set_request(request_with_settings(req, plan, s.tidal_volume_ml, s.rate_per_min, applied.metabolic_rate_w))
 
     gas = getattr(getattr(window, "form", None), "gas_unit", None)
-    panel = TimelinePanel(current_request, apply, ctl.library, gas_unit=gas, parent=window)
+    panel = TimelinePanel(current_request, apply, ctl.library, gas_unit=gas, parent=parent or window)
     ctl.plan_ready.connect(panel.show_plan)
     if ctl.plan is not None:
         panel.show_plan(ctl.plan)
@@ -766,5 +774,4 @@ def install(window) -> TimelinePanel:
         panel.set_theme(window.theme)
     if hasattr(window, "form") and hasattr(window.form, "gas_unit_changed"):
         window.form.gas_unit_changed.connect(lambda _u: panel.refresh())
-    window.add_panel("Anaesthetic record", panel)
     return panel
