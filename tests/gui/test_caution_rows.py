@@ -9,7 +9,8 @@ from ventset.gui.readouts import CautionsPanel
 
 
 def _plan(*cautions: tuple[str, str, str]) -> SimpleNamespace:
-    return SimpleNamespace(cautions=[SimpleNamespace(severity=s, code=c, message=m) for s, c, m in cautions])
+    return SimpleNamespace(cautions=[SimpleNamespace(severity=s, code=c, message=m, text=lambda _units, m=m: m)
+                                     for s, c, m in cautions])
 
 
 def test_rows_follow_the_plan_and_keep_their_caution(qtbot):
