@@ -24,7 +24,7 @@ from importlib.resources import files
 from pathlib import Path
 
 from ventset import storage
-from ventset.cases import SUFFIX
+from ventset.case_model import SUFFIX
 
 APP_ID = "ventset"
 MIME_TYPE = "application/x-ventset-case"
