@@ -56,17 +56,25 @@ class PlanController(QObject):
         self._timer.setSingleShot(True)
         self._timer.setInterval(0)
         self._timer.timeout.connect(self.replan_now)
-        self._flush_hooks: list = []  # input held back while typing (the form's debounce): handed over by flush()
+        self._flush_hooks: list = []  # typing whose errors wait for the pause: handed over by flush()
         self._views_due = False
+        self._fallback: Request | None = None  # planned instead when a request being typed cannot be planned
 
     @property
     def stale(self) -> bool:
         """True when the plan on screen no longer matches what was entered."""
         return bool(self.errors)
 
-    def set_request(self, request: Request, *, from_form: bool = False) -> None:
-        """Replace the current request (one replan, on the next event-loop pass)."""
+    @property
+    def pending(self) -> bool:
+        """True when a replan has been asked for and not yet run."""
+        return self._timer.isActive()
+
+    def set_request(self, request: Request, *, from_form: bool = False, fallback: Request | None = None) -> None:
+        """Replace the current request (one replan, on the next event-loop pass). With ``fallback`` (a number
+        being typed) a request that cannot be planned says nothing yet: ``fallback`` is planned instead."""
         self.request = request
+        self._fallback = fallback
         self._pending_errors = None
         if not from_form:
             self.request_changed.emit(request)
@@ -134,6 +142,10 @@ class PlanController(QObject):
         try:
             result = make_plan(self.request, self.library)
         except InputError as err:
+            if self._fallback is not None and self._fallback != self.request:
+                self.request, self._fallback = self._fallback, None
+                self.replan_now()
+                return
             self.errors = [err]
             self.plan_invalid.emit(self.errors)
             return

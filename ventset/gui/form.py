@@ -72,7 +72,9 @@ DEFAULT_WORD = {"metabolic-rate": "≈ {} (estimate)", "rate": "{} (solved)", "l
                 "altitude": "{} (sea level)"}
 NO_DEFAULT = {"mass": "required", "tube-id": "not entered", "tube-length": "not entered",
               "oxygen-supply": "a full cylinder", "duration": "2 h"}
-TYPING_PAUSE_MS = 250  # a number being typed is planned once the typing pauses this long (or on Enter)
+# A number being typed that cannot be planned yet ('4' of a horse's '450') is said to be wrong only once the typing
+# pauses this long (or on Enter); a typed number that can be planned is planned at once.
+TYPING_PAUSE_MS = 250
 
 
 def compact(combo: QComboBox, chars: int = 10) -> QComboBox:
@@ -434,13 +436,16 @@ class InputForm(QWidget):
         self._loading = False
         self._assumption_sources: dict[str, str] = {}
         self._errors: dict[str, str] = {}
-        # While a number is being typed the plan waits until the typing pauses (a half-typed "4" of "450" is
-        # never planned); Enter, focus-out, undo and every other change plan at once.
+        # Every keystroke that gives a plan is planned at once (the numbers follow the box within a frame). One
+        # that does not ('4' of a horse's '450', an empty box) puts the settled plan back on screen and is said
+        # to be wrong once the typing pauses, so the plan kept stale is never a half-typed one. Settled: what
+        # stood for the pause, or came by Enter, focus-out, undo, a file or any other change.
         self._typing = False
+        self._settled: Request | None = None
         self._submit_timer = QTimer(self)
         self._submit_timer.setSingleShot(True)
         self._submit_timer.setInterval(TYPING_PAUSE_MS)
-        self._submit_timer.timeout.connect(self._submit)
+        self._submit_timer.timeout.connect(self._pause_ended)
         self._build_ui()
         controller.add_flush_hook(self.flush_typing)
         controller.request_changed.connect(self.load_request)
@@ -736,7 +741,7 @@ class InputForm(QWidget):
         """Plan what is typed now, if the typing pause has not come yet."""
         if self._submit_timer.isActive():
             self._submit_timer.stop()
-            self._submit()
+            self._pause_ended()
 
     def _finished(self, key: str) -> None:
         """Enter or focus out: a unit typed with the number ('35 g') moves the unit chooser (and the related
@@ -802,16 +807,36 @@ class InputForm(QWidget):
                 self.gas_unit_changed.emit(self.gas_unit())
         if self._typing:
             self._submit_timer.start()  # restarted by each keystroke
+            self._submit_typed()
         else:
             self._submit_timer.stop()
             self._submit()
 
+    def _submit_typed(self) -> None:
+        """A keystroke: plan what is typed at once if it can be planned, else put the settled plan back."""
+        request, errors = fs.request_from_state(self.state, self.library)
+        if errors:
+            request = self._settled  # does not parse: the settled plan goes back on screen
+        if request is not None and (request != self.controller.request or self.controller.stale):  # not for '18.'
+            self.controller.set_request(request, from_form=True, fallback=self._settled)
+
     def _submit(self) -> None:
+        """Plan the form as it stands and settle it (errors are said now)."""
         request, errors = fs.request_from_state(self.state, self.library)
         if errors:
             self.controller.set_invalid(errors)
         else:
+            self._settled = request
             self.controller.set_request(request, from_form=True)
+
+    def _pause_ended(self) -> None:
+        """The typing paused: what is typed settles (already planned if it could be), or its errors are said."""
+        request, errors = fs.request_from_state(self.state, self.library)
+        c = self.controller
+        if errors or request != c.request or c.errors or c.pending:  # pending: not yet known to plan
+            self._submit()
+        else:
+            self._settled = request
 
     def _sync_all(self) -> None:
         for k in list(self.state):
@@ -879,6 +904,7 @@ class InputForm(QWidget):
     # ---------------------------------------------------------------- from the controller
     def load_request(self, request: Request) -> None:
         """Show a request set from outside (a case file, a titration step) as one undo step."""
+        self._settled = request
         new = fs.state_from_request(request, self.units(), self.library)
         changes = {k: (self.state.get(k), v) for k, v in new.items() if self.state.get(k) != v}
         if not changes:
