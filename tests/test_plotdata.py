@@ -178,3 +178,17 @@ def test_custom_species_is_named_and_planned_from_its_base():
     assert p.ventilation.rate_per_min == base.ventilation.rate_per_min
     assert any(c.code == "CUSTOM_SPECIES" and "Fennec fox" in c.message for c in p.cautions)
     assert any(a.name == "Species values" and a.value == "Cat" for a in p.assumptions)
+
+
+def test_same_compares_plot_data_element_by_element():
+    """plotdata.same: numpy.array_equal with NaN equal to NaN (numpy's own definition, equal_nan=True),
+    through tuples and dataclasses; a changed element, shape or type is a difference."""
+    a = np.array([1.0, np.nan, 3.0])
+    assert plotdata.same(a, a.copy()) and not plotdata.same(a, np.array([1.0, np.nan, 3.5]))
+    assert not plotdata.same(a, a[:2]) and not plotdata.same(a, list(a))
+    assert plotdata.same((a, "mmHg", 2.0), (a.copy(), "mmHg", 2.0))
+    assert not plotdata.same((a, "mmHg"), (a, "kPa")) and plotdata.same(float("nan"), float("nan"))
+    p = plan(Request(Patient(species="dog", mass_kg=20.0)))
+    w = plotdata.waveforms(p)
+    assert plotdata.same(w, plotdata.waveforms(p))
+    assert not plotdata.same(w, plotdata.waveforms(plan(Request(Patient(species="dog", mass_kg=21.0)))))

@@ -20,22 +20,17 @@ import os
 import shutil
 import subprocess
 import sys
-from importlib.resources import files
 from pathlib import Path
 
 from ventset import storage
 from ventset.case_model import SUFFIX
+from ventset.resources import icon_path  # noqa: F401 (re-exported: the desktop entry's icon)
 
 APP_ID = "ventset"
 MIME_TYPE = "application/x-ventset-case"
 MIME_ICON = MIME_TYPE.replace("/", "-")
 # Characters that make a Desktop Entry Exec argument need quoting ("The Exec key", Desktop Entry spec 1.5).
 _RESERVED = set(" \t\n\"'\\><~|&;$*?#()`")
-
-
-def icon_path() -> Path:
-    """The SVG icon shipped in the package."""
-    return Path(str(files("ventset") / "assets" / "ventset.svg"))
 
 
 def data_home() -> Path:

@@ -138,6 +138,22 @@ def ti_at_rates(plan: Plan, rates_per_min: np.ndarray) -> np.ndarray:
     return np.asarray(subject_of(plan).timing.ti_s(np.asarray(rates_per_min, dtype=float)), dtype=float)
 
 
+def same(a: object, b: object) -> bool:
+    """True when two plot data records (or tuples of them) hold equal values, arrays compared element by
+    element (NaN equal to NaN): a view whose data is the same need not be drawn again."""
+    if type(a) is not type(b):
+        return False
+    if isinstance(a, np.ndarray):
+        return a.shape == b.shape and bool(np.array_equal(a, b, equal_nan=a.dtype.kind == "f"))  # type: ignore
+    if isinstance(a, tuple | list):
+        return len(a) == len(b) and all(same(x, y) for x, y in zip(a, b, strict=True))  # type: ignore[arg-type]
+    if hasattr(a, "__dataclass_fields__"):
+        return all(same(getattr(a, f), getattr(b, f)) for f in a.__dataclass_fields__)
+    if isinstance(a, float) and isinstance(b, float) and math.isnan(a) and math.isnan(b):
+        return True
+    return bool(a == b)
+
+
 def nice_ceiling(x: float) -> float:
     """Smallest of 1, 1.5, 2, 2.5, 3, 4, 5, 6, 8 × 10^k that is ≥ x (for axis ranges)."""
     if not math.isfinite(x) or x <= 0:
@@ -351,7 +367,7 @@ class Waveforms:
     volume_range: tuple[float, float]
 
 
-def waveforms(plan: Plan, breaths: int = 3, points_per_breath: int = 200,
+def waveforms(plan: Plan, breaths: int = 3, points_per_breath: int = 50,
               library: Library | None = None) -> Waveforms:
     """Airway pressure, flow and volume over a few breaths at the plan's settings (mechanics.waveforms)."""
     v, p, s = plan.ventilation, plan.pressures, subject_of(plan)

@@ -45,3 +45,8 @@ def docs_dir() -> Path:
     if (packaged / "user-guide.md").is_file():
         return Path(str(packaged))
     return Path(__file__).resolve().parent.parent / "docs"
+
+
+def icon_path() -> Path:
+    """The SVG icon shipped in the package (the window's and the desktop entry's)."""
+    return Path(str(files("ventset") / "assets" / "ventset.svg"))

@@ -5,11 +5,13 @@ from __future__ import annotations
 
 from tests.gui.conftest import settle
 from ventset.gui import formstate as fs
+from ventset.gui import machine_choice
 from ventset.model import Circuit, Patient, Request
 
 
 def choose(window, key: str) -> None:
     combo = window.form.machine_combo
+    machine_choice.ensure(combo)  # what opening it does: the chooser reads its list when first used
     i = combo.findData(key)
     assert i >= 0, key
     combo.setCurrentIndex(i)
@@ -52,3 +54,22 @@ def test_a_bellows_machine_round_trips_through_the_form_state(make_window):
     st = fs.state_from_request(p.request, w.form.units(), w.library)
     req, errors = fs.request_from_state(st, w.library)
     assert not errors and req == p.request
+
+
+def test_the_chooser_reads_its_list_on_first_use(qtbot, window):
+    """At start the chooser holds only "no ventilator" (the library is read from disk later, off the first
+    frame); the first click on it lists every class before its list opens."""
+    from PySide6.QtCore import QEvent, QPointF, Qt
+    from PySide6.QtGui import QMouseEvent
+    from PySide6.QtWidgets import QApplication
+
+    from ventset.machines.data import load_machines
+
+    combo = window.form.machine_combo
+    assert combo.property("filled") is False and combo.count() == 1 and combo.currentData() == ""
+    press = QMouseEvent(QEvent.Type.MouseButtonPress, QPointF(2, 2), QPointF(2, 2), Qt.MouseButton.LeftButton,
+                        Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier)
+    QApplication.sendEvent(combo, press)
+    combo.hidePopup()
+    keys = {combo.itemData(i) for i in range(combo.count())}
+    assert set(load_machines().classes) <= keys and combo.currentData() == ""

@@ -100,3 +100,36 @@ def test_the_tab_shown_follows_each_edit_and_the_plots_catch_up_when_shown_again
     assert any(not np.array_equal(a, b) for a, b in zip(window.wave_plot.curve_data(), waves_before,
                                                         strict=True))
     QApplication.processEvents()
+
+
+def test_a_plot_whose_data_did_not_change_is_not_drawn_again(qtbot, window):
+    """A new patient name makes a new plan with the same numbers: the breath, waveform and dead-space plots
+    keep what they drew (the same data objects) and do not paint."""
+    settle(window)
+    for _ in range(6):  # the first show's paints are done
+        QApplication.processEvents()
+    before = (window.breath_plot.data, window.sens_plot.data, window.wave_plot.data)
+    log: list[str] = []
+    watchers = [_Paints(log, name) for name in ("breath", "sens", "waves")]
+    for w, card in zip(watchers, (window.breath_plot, window.sens_plot, window.wave_plot), strict=True):
+        card.widget.viewport().installEventFilter(w)
+    plan_before = window.controller.plan
+    qtbot.keyClicks(window.form.name_edit, "x")
+    settle(window)
+    for _ in range(6):
+        QApplication.processEvents()
+    assert window.controller.plan is not plan_before and window.controller.plan.request.patient.name.endswith("x")
+    assert (window.breath_plot.data, window.sens_plot.data, window.wave_plot.data) == before
+    assert all(a is b for a, b in zip((window.breath_plot.data, window.sens_plot.data, window.wave_plot.data),
+                                      before, strict=True))
+    assert log == []
+    type_mass = window.form.rows["mass"].edit  # a new mass: all three draw again
+    type_mass.setFocus()
+    type_mass.selectAll()
+    qtbot.keyClicks(type_mass, "6")
+    settle(window)
+    for _ in range(6):
+        QApplication.processEvents()
+    assert all(a is not b for a, b in zip((window.breath_plot.data, window.sens_plot.data, window.wave_plot.data),
+                                          before, strict=True))
+    assert {"breath", "sens", "waves"} <= set(log)

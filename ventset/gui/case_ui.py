@@ -143,7 +143,9 @@ class CaseManager(QObject):
     def is_dirty(self) -> bool:
         """True when what is in the window differs from the case file (or, unsaved, from the start)."""
         form = getattr(self.window, "form", None)
-        current = self._timeline()
+        # An empty record is told without loading the record's model (this is asked at start-up).
+        no_record = self._timeline_get is not None and self._timeline_get() == ()
+        current = [] if no_record else self._timeline()
         if self._fresh is not None and form is not None and form.state == self._fresh and \
                 not self._changed_outside and (current is None or _empty_timeline(current)):
             return False  # a new case nothing was entered in
@@ -152,6 +154,8 @@ class CaseManager(QObject):
         if self.controller.request != (self.case.request if self.case else self._baseline):
             return True
         stored = self.case.timeline if self.case else None
+        if no_record:
+            return stored is not None and not _empty_timeline(stored)
         return current is not None and current != stored and not (stored is None and _empty_timeline(current))
 
     def snapshot(self) -> cases.Case:
@@ -828,7 +832,7 @@ def install(window, *, offer_recovery: bool = True, autosave_folder: Path | None
     manager.act_print = act("Printed plan (preview, PDF, print)…", manager.preview, QKeySequence.StandardKey.Print,
                             "act-print")
     manager.act_pdf = act("Save printed plan as PDF…", manager.write_pdf, None, "act-pdf")
-    from ventset.gui.print_ui import install_paper_menu
+    from ventset.gui.paper import install_paper_menu
 
     manager.paper_menu = install_paper_menu(window, menu, first)
     manager.act_summary = act("Copy summary for the clinical record", manager.copy_summary,

@@ -654,7 +654,7 @@ class InputForm(QWidget):
         self.machine_combo = QComboBox(box)
         self.machine_combo.setObjectName("machine")
         compact(self.machine_combo)
-        machine_choice.fill(self.machine_combo)
+        machine_choice.fill_when_used(self.machine_combo)  # the list is read from disk when first used
         self._label_row(box, grid, "Ventilator", self.machine_combo,
                         "The kind of ventilator in use: the plan is also given as the settings its controls can "
                         "be turned to, and re-evaluated as dialled.")

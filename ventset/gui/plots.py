@@ -266,7 +266,10 @@ class BreathPlot(PlotCard):
             self._draw(self.data)
 
     def show_plan(self, plan: Plan) -> None:
-        self.data = plotdata.breath_composition(plan)
+        b = plotdata.breath_composition(plan)
+        if self.data is not None and plotdata.same(b, self.data):
+            return  # nothing this plot shows has changed (a PEEP, a name): not drawn again
+        self.data = b
         self._draw(self.data)
         b = self.data
         tot = b.total_by_category()
@@ -626,6 +629,7 @@ class WaveformPlot(PlotCard):
         self.add_plot(self.widget)
         self.caches = [{}, {}, {}]
         self.data: plotdata.Waveforms | None = None
+        self._shown: tuple = ()
         self.set_theme(DAY)
 
     def set_theme(self, theme: Theme) -> None:
@@ -643,6 +647,11 @@ class WaveformPlot(PlotCard):
 
     def show_plan(self, plan: Plan) -> None:
         w = plotdata.waveforms(plan)
+        p = plan.pressures
+        shown = (w, p.pressure_limit_cmh2o, p.peep_cmh2o, p.time_constant_s, plan.ventilation.te_s)
+        if plotdata.same(shown, self._shown):
+            return  # nothing this plot shows has changed: not drawn again
+        self._shown = shown
         self.data = w
         for c, y in zip(self.curves, (w.pressure_cmh2o, w.flow_l_min, w.volume_ml), strict=True):
             c.setData(w.time_s, y)
@@ -706,6 +715,7 @@ class SensitivityPlot(PlotCard):
         self.add_plot(self.widget)
         self.cache: dict = {}
         self.data: plotdata.Sensitivity | None = None
+        self._shown: tuple = ()
         self.gas_unit = "mmHg"
         self.set_theme(DAY)
 
@@ -726,6 +736,11 @@ class SensitivityPlot(PlotCard):
 
     def show_plan(self, plan: Plan, gas_unit: str) -> None:
         s = plotdata.dead_space_sensitivity(plan)
+        v = plan.ventilation
+        shown = (s, gas_unit, v.tidal_volume_ml, v.rate_per_min)
+        if plotdata.same(shown, self._shown):
+            return  # nothing this plot shows has changed: not drawn again
+        self._shown = shown
         self.data, self.gas_unit = s, gas_unit
         if self.cache.get("label") != gas_unit:  # a new label redraws the axis: only on a unit change
             self.cache["label"] = gas_unit

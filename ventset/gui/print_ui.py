@@ -9,26 +9,14 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from PySide6.QtGui import QAction, QActionGroup
 from PySide6.QtPrintSupport import QPrintDialog, QPrinter, QPrintPreviewDialog
-from PySide6.QtWidgets import QDialog, QMenu, QToolBar
+from PySide6.QtWidgets import QDialog, QToolBar
 
 from ventset.errors import VentsetError
 from ventset.gui import printing
+from ventset.gui.paper import PAPER_KEY, chosen_paper, install_paper_menu, paper_choice  # noqa: F401 (re-exported)
 
-PAPER_KEY = "print/paper"  # "auto" (from the locale), "A4" or "Letter"
 PDF_FILTER = "PDF (*.pdf)"
-
-
-def paper_choice(settings) -> str:
-    value = str(settings.value(PAPER_KEY, "auto")) if settings is not None else "auto"
-    return value if value in ("auto", *printing.PAPERS) else "auto"
-
-
-def chosen_paper(settings) -> str:
-    """The paper to print on: the one chosen in Case ▸ Paper size, else the locale's."""
-    choice = paper_choice(settings)
-    return printing.default_paper() if choice == "auto" else choice
 
 
 def make_printer(paper: str, title: str = "") -> QPrinter:
@@ -129,22 +117,3 @@ def preview(manager) -> QPrintPreviewDialog | None:
     return dialog
 
 
-def install_paper_menu(window, menu: QMenu, before: QAction | None) -> QMenu:
-    """Case ▸ Paper size: from the locale (the default), A4 or Letter; remembered in the settings."""
-    paper = QMenu("Paper size", window)
-    paper.setObjectName("menu-paper")
-    group = QActionGroup(window)
-    settings = getattr(window, "settings", None)
-    current = paper_choice(settings)
-    actions: dict[str, QAction] = {}
-    for key in ("auto", *printing.PAPERS):
-        text = f"From the locale ({printing.default_paper()})" if key == "auto" else key
-        a = QAction(text, window, checkable=True)
-        a.setChecked(key == current)
-        a.triggered.connect(lambda _=False, k=key: settings is not None and settings.setValue(PAPER_KEY, k))
-        group.addAction(a)
-        paper.addAction(a)
-        actions[key] = a
-    paper.paper_actions = actions
-    menu.insertMenu(before, paper)
-    return paper

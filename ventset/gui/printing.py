@@ -15,6 +15,7 @@ from datetime import datetime
 
 from ventset import __version__
 from ventset.errors import InputError, visible
+from ventset.gui.paper import LETTER_TERRITORIES, PAPERS, default_paper  # noqa: F401 (re-exported)
 from ventset.gui.printpages import PageInfo, Printout, no_gas_exchange, render
 from ventset.model import Plan
 from ventset.present.quantities import Units
@@ -22,11 +23,8 @@ from ventset.present.quantities import Units
 __all__ = ["PAPERS", "PageInfo", "Printout", "default_paper", "ensure_app", "no_gas_exchange", "plan_page_image",
            "plan_pdf_bytes", "print_plan", "write_plan_pdf"]
 
-PAPERS = ("A4", "Letter")
 DPI = 300
 _APP = None
-# Where US Letter is the usual paper (the rest of the world uses ISO 216 A4); QLocale territory names.
-LETTER_TERRITORIES = ("UnitedStates", "Canada")
 
 
 def ensure_app():
@@ -41,18 +39,6 @@ def ensure_app():
         os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
     _APP = QApplication(sys.argv[:1] or ["ventset"])
     return _APP
-
-
-def default_paper(locale_name: str | None = None) -> str:
-    """'Letter' for a US or Canadian locale, else 'A4'. Without a name: the paper locale of the environment
-    (LC_ALL, then LC_PAPER, then LANG, as POSIX orders them), else the system locale."""
-    from PySide6.QtCore import QLocale
-
-    if locale_name is None:
-        locale_name = next((os.environ[v] for v in ("LC_ALL", "LC_PAPER", "LANG") if os.environ.get(v)), None)
-    loc = QLocale(locale_name.split(".")[0].split("@")[0]) if locale_name else QLocale.system()
-    letter = {getattr(QLocale.Country, t) for t in LETTER_TERRITORIES}
-    return "Letter" if loc.territory() in letter else "A4"
 
 
 def _paper(paper: str | None) -> str:

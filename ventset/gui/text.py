@@ -173,8 +173,15 @@ class Text(QWidget):
             return 0
         if not self._wrap:
             return self.fontMetrics().horizontalAdvance(self._plain)
-        layout, _h = self._make_layout(1)
-        return max(int(layout.lineAt(i).naturalTextWidth() + 0.999) for i in range(layout.lineCount()))
+        key = (self._plain, -1, self.font().key())  # beside the heights for widths (width -1: not a width)
+        w = self._hfw.get(key)
+        if w is None:  # asked on every plan (the tiles' reflow): a text that has not changed is not laid out again
+            if len(self._hfw) > 64:
+                self._hfw.clear()
+            layout, _h = self._make_layout(1)
+            w = self._hfw[key] = max(int(layout.lineAt(i).naturalTextWidth() + 0.999)
+                                     for i in range(layout.lineCount()))
+        return w
 
     def hasHeightForWidth(self) -> bool:  # noqa: N802 - Qt override
         return self._wrap
@@ -264,6 +271,7 @@ class Reading(QWidget):
         self._vf = self._font(value_scale, True)
         self._uf = self._font(unit_scale, False)
         self._fit: tuple | None = None
+        self._width_at: tuple | None = None
         self._colour: QColor | None = None
         if name:
             self.setObjectName(name)
@@ -309,7 +317,12 @@ class Reading(QWidget):
     def width_at(self, scale: float) -> int:
         """Pixels the reading needs with the number at ``scale`` × the application font (unit at its own size,
         or smaller in proportion when the number is smaller than the unit's size)."""
-        return self._width(self._font(scale, True), self._font(min(self._unit_scale, scale), False))
+        key = (self._value, self._unit, scale, self.font().key())
+        if self._width_at is not None and self._width_at[0] == key:
+            return self._width_at[1]
+        w = self._width(self._font(scale, True), self._font(min(self._unit_scale, scale), False))
+        self._width_at = (key, w)
+        return w
 
     def fitted_fonts(self) -> tuple[QFont, QFont]:
         """The largest number and unit fonts, down from the full size, whose text fits the widget's width."""

@@ -6,6 +6,7 @@ set in pixels. Severity is shown by a word and a shape as well as a colour, so i
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field
 
 from PySide6.QtCore import QPointF, QRectF, Qt
@@ -101,11 +102,12 @@ THEMES: dict[str, Theme] = {t.key: t for t in (DAY, NIGHT, HIGH_CONTRAST)}
 SEVERITY_WORD = {"danger": "DANGER", "caution": "CAUTION", "info": "INFO"}
 
 
+@functools.lru_cache(maxsize=1)
 def app_icon():
-    """ventset's icon (the SVG shipped in the package, also the desktop entry's) as a QIcon."""
+    """ventset's icon (the SVG shipped in the package, also the desktop entry's) as a QIcon (made once)."""
     from PySide6.QtGui import QIcon
 
-    from ventset.desktop import icon_path
+    from ventset.resources import icon_path
 
     return QIcon(str(icon_path()))
 

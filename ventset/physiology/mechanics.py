@@ -56,9 +56,22 @@ def otis_optimal_rate_per_min(va_l_min: float, vd_l: float, rc_s: float) -> floa
     return (square_root(1.0 + 2.0 * a * rc_s * va_l_min / vd_l) - 1.0) / (a * rc_s)  # float or array
 
 
+def _exponential_times(duration_s: float, tau_s: float, n: int):
+    """About ``n`` times over [0, duration] (both ends) at which e^(−t/τ) is sampled: half evenly in time,
+    half where the value falls by even steps (so a fast early fall is followed as closely as a slow tail)."""
+    import numpy as np
+
+    k = max(2, n // 2)
+    even_t = np.linspace(0.0, duration_s, k)
+    fall = -math.expm1(-duration_s / tau_s)  # 1 − e^(−T/τ)
+    even_v = -tau_s * np.log1p(-np.linspace(0.0, fall, k)[:-1])  # the last is the end (which may be 1 − 1 = 0)
+    t = np.sort(np.concatenate([even_t, even_v]))
+    return t[np.concatenate(([True], np.diff(t) > 0))]  # (np.unique would import numpy.ma: 10 ms at start-up)
+
+
 def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2o: float,
               resistance_cmh2o_l_s: float, peep_cmh2o: float, mode: str, breaths: int = 3,
-              points_per_breath: int = 200, pause_s: float = 0.0) -> dict:
+              points_per_breath: int = 50, pause_s: float = 0.0) -> dict:
     """Sample airway pressure (cmH2O), flow (L/min) and volume (mL) over ``breaths`` breaths.
 
     Passive single-compartment lung (P = V/C + R·V̇ + PEEP; Bates 2009). Volume mode: constant flow VT/(Ti − pause).
@@ -67,6 +80,10 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
     is passive: V = V_end·e^(−t/τ), so a short Te shows as volume not returning to zero (trapped gas). Breaths
     are simulated in sequence, so trapped volume carries over; ``end_expiratory_ml`` is the volume left at the
     end of the last breath.
+
+    Every phase is sampled at both its ends (a step in flow or pressure is vertical: two samples at one
+    time), straight phases (constant flow, the pause) by their ends alone, and exponential ones at about
+    ``points_per_breath`` × their share of the breath (``_exponential_times``).
     """
     import numpy as np
 
@@ -77,12 +94,10 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
     pause = pause_s
     t_flow = ti_s - pause
     n = points_per_breath
-    n_i = max(2, int(round(n * t_flow / cycle)))
-    n_p = max(2, int(round(n * pause / cycle))) if pause > 0 else 0
-    n_e = max(2, n - n_i - n_p)
-    ti_local = np.linspace(0.0, t_flow, n_i, endpoint=False)
-    tp_local = np.linspace(0.0, pause, n_p, endpoint=False)
-    te_local = np.linspace(0.0, te, n_e, endpoint=False)
+    n_i = max(n // 2, int(round(n * t_flow / cycle)))  # an exponential phase gets at least half the points
+    ti_local = _exponential_times(t_flow, tau, n_i) if mode == "pressure" else np.array([0.0, t_flow])
+    tp_local = np.array([0.0, pause]) if pause > 0 else np.zeros(0)
+    te_local = _exponential_times(te, tau, max(n // 2, n - int(round(n * t_flow / cycle))))
     t_all, p_all, q_all, v_all = [], [], [], []
     v0 = 0.0
     dp = pressure_control_delta_cmh2o(vt_ml, t_flow, c, tau) if mode == "pressure" else 0.0
