@@ -133,3 +133,13 @@ def test_a_plot_whose_data_did_not_change_is_not_drawn_again(qtbot, window):
     assert all(a is not b for a, b in zip((window.breath_plot.data, window.sens_plot.data, window.wave_plot.data),
                                           before, strict=True))
     assert {"breath", "sens", "waves"} <= set(log)
+
+
+def test_a_new_theme_recolours_the_map_though_its_data_did_not_change(window):
+    """The map's zones are the same cells after a theme change, but in the new theme's colours."""
+    mp = window.map_plot
+    day = mp.image.image.copy()
+    window.set_theme("night")
+    settle(window)
+    assert mp.map is not None and np.array_equal(mp.image.image, mp.lut[mp.map.cell])
+    assert not np.array_equal(mp.image.image, day)

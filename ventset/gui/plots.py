@@ -55,6 +55,9 @@ def _pen(colour: str, width: float = 2.0, style: Qt.PenStyle = Qt.PenStyle.Solid
     return pen
 
 
+_NOTHING = object()
+
+
 class PlotCard(QFrame):
     """A titled frame around one plot, with a caption that says in words what the plot shows."""
 
@@ -91,6 +94,7 @@ class PlotCard(QFrame):
         self.body = lay
         self.theme = DAY
         self.stale = False
+        self._parts: dict[str, object] = {}
 
     def _zoom(self, on: bool) -> None:
         self.zoom.setText("All plots" if on else "Enlarge")
@@ -108,6 +112,15 @@ class PlotCard(QFrame):
     def set_caption(self, text: str) -> None:
         if self.caption.text() != text:
             self.caption.setText(text)
+
+    def changed(self, part: str, value: object) -> bool:
+        """True (and ``value`` remembered) when ``part`` of the plot is to show something new
+        (plotdata.same): a part given the same data again is not set, so it is not redrawn."""
+        last = self._parts.get(part, _NOTHING)
+        if last is not _NOTHING and plotdata.same(last, value):
+            return False
+        self._parts[part] = value
+        return True
 
     def style_plot(self, plot: pg.PlotItem, theme: Theme) -> None:
         ratio = max(1.0, self.devicePixelRatioF())
@@ -438,6 +451,7 @@ class SettingsMapPlot(PlotCard):
 
     def set_theme(self, theme: Theme) -> None:
         self.theme = theme
+        self._parts.clear()  # new colours: every part is set again
         self.widget.setBackground(theme.plot_bg)
         self.style_plot(self.plot, theme)
         band = QColor(theme.band)
@@ -470,16 +484,17 @@ class SettingsMapPlot(PlotCard):
         (v0, v1), (r0, r1) = ranges
         m = plotdata.settings_map(plan, MAP_CELLS, MAP_CELLS, ranges=ranges)
         self.map = m
-        self.image.setImage(self.lut[m.cell], autoLevels=False)
-        self.image.setRect(QRectF(v0, r0, v1 - v0, r1 - r0))
+        if self.changed("image", (m.cell, ranges)):
+            self.image.setImage(self.lut[m.cell], autoLevels=False)
+            self.image.setRect(QRectF(v0, r0, v1 - v0, r1 - r0))
         lines = plotdata.isolines(plan, gas_unit, ranges=ranges)
         gap = np.array([np.nan])
         others = [x for x in lines if not x.is_target]
-        if others:
+        if others and self.changed("isolines", tuple(others)):
             self.iso_other.setData(np.concatenate([a for x in others for a in (x.vt_ml, gap)]),
                                    np.concatenate([a for x in others for a in (x.rate_per_min, gap)]))
         target = next((x for x in lines if x.is_target), None)
-        if target is not None:
+        if target is not None and self.changed("target", target):
             self.iso_target.setData(target.vt_ml, target.rate_per_min)
         for i, lab in enumerate(self.iso_labels):
             line = lines[i] if i < len(lines) else None
@@ -493,15 +508,17 @@ class SettingsMapPlot(PlotCard):
             lab.setPos(*line.label_at)
             _show(lab, True)
         lim = plan.limits
-        self.box.setData([lim.vt_min_ml, lim.vt_max_ml, lim.vt_max_ml, lim.vt_min_ml, lim.vt_min_ml],
-                         [lim.rate_min_per_min, lim.rate_min_per_min, lim.rate_max_per_min, lim.rate_max_per_min,
-                          lim.rate_min_per_min])
+        if self.changed("box", (lim.vt_min_ml, lim.vt_max_ml, lim.rate_min_per_min, lim.rate_max_per_min)):
+            self.box.setData([lim.vt_min_ml, lim.vt_max_ml, lim.vt_max_ml, lim.vt_min_ml, lim.vt_min_ml],
+                             [lim.rate_min_per_min, lim.rate_min_per_min, lim.rate_max_per_min,
+                              lim.rate_max_per_min, lim.rate_min_per_min])
         _set_text(self.box_label, "usual range")
         self.box_label.setPos(lim.vt_min_ml, lim.rate_max_per_min)
         rates = np.linspace(max(r0, 0.25), r1, 120)
         pv = plotdata.pressure_boundary_vt(plan, rates)
         pv[(pv > v1) | (pv < v0)] = np.nan
-        self.peak_curve.setData(pv, rates)
+        if self.changed("peak", (pv, rates)):
+            self.peak_curve.setData(pv, rates)
         finite = np.nonzero(np.isfinite(pv))[0]
         peak_name = "inspiratory pressure" if plan.resolved.mode == "pressure" else "peak"
         if finite.size:
@@ -530,7 +547,8 @@ class SettingsMapPlot(PlotCard):
         self.trap_label.setPos(v0 + (v1 - v0) * 0.02, trap if math.isfinite(trap) else r1 * 2)
         _show(self.trap_label, math.isfinite(trap) and r0 < trap < r1)
         v = plan.ventilation
-        self.point.setData([v.tidal_volume_ml], [v.rate_per_min])
+        if self.changed("point", (v.tidal_volume_ml, v.rate_per_min)):
+            self.point.setData([v.tidal_volume_ml], [v.rate_per_min])
         _set_range(self.plot.vb, (v0, v1), (r0, r1), self.cache)
         self._fit_dead_label()
         lo, hi = m.band_mmhg
