@@ -143,3 +143,25 @@ def test_a_new_theme_recolours_the_map_though_its_data_did_not_change(window):
     settle(window)
     assert mp.map is not None and np.array_equal(mp.image.image, mp.lut[mp.map.cell])
     assert not np.array_equal(mp.image.image, day)
+
+
+def test_a_fields_tooltip_names_the_default_in_use_now(qtbot, window):
+    """The tooltip of an empty field names the value the plan used and its source, from the plan's own
+    assumption record, and follows the plan (the body temperature of a cat, then of a horse)."""
+    def said(plan):
+        a = next(a for a in plan.assumptions if a.name.startswith("Body temperature"))
+        return f"{fmt(a.value)} {a.unit}"
+
+    row = window.form.rows["body-temperature"]
+    cat = window.controller.plan
+    assert said(cat) in row.edit.toolTip() and "Default used now" in row.edit.toolTip()
+    window.form.species.picked.emit("horse")
+    edit = window.form.rows["mass"].edit
+    edit.setFocus()
+    edit.selectAll()
+    qtbot.keyClicks(edit, "450")
+    qtbot.keyClick(edit, Qt.Key.Key_Return)
+    settle(window)
+    horse = window.controller.plan
+    assert horse.resolved.species == "horse" and said(horse) != said(cat)
+    assert said(horse) in row.edit.toolTip() and said(cat) not in row.edit.toolTip()

@@ -182,6 +182,7 @@ class FieldRow:
         self.error.setObjectName(f"error-{spec.key}")
         self.invalid = False
         self._tooltip = ""
+        self.said: tuple | None = None  # the default in use the tooltip names (value, unit, source)
         self.set_tooltip(f"<b>{esc(spec.label)}</b><br>{esc(spec.help)}")
 
     def set_tooltip(self, text: str) -> None:
@@ -961,6 +962,9 @@ class InputForm(QWidget):
         sources = {}
         for a in plan.assumptions:
             sources[a.name] = a
+        hits: dict[str, object] = {}
+        for name in {n for n in FIELD_ASSUMPTION.values() if n}:  # each field's assumption, found once a plan
+            hits[name] = sources.get(name) or next((a for n, a in sources.items() if n.startswith(name)), None)
         for key, row in self.rows.items():
             unit = self.state[fs.UNIT + key]
             if key in NO_DEFAULT:
@@ -976,13 +980,15 @@ class InputForm(QWidget):
             if row.edit.placeholderText() != ph:
                 row.edit.setPlaceholderText(ph)
             name = FIELD_ASSUMPTION.get(key)
-            src = ""
-            if name:
-                hit = next((a for n, a in sources.items() if n.startswith(name)), None)
-                if hit is not None:
-                    value = fmt(hit.value) if isinstance(hit.value, float) else hit.value
-                    src = f"<br><i>Default used now:</i> {esc(value)} {esc(hit.unit)} — {esc(hit.source)}"
-            row.set_tooltip(f"<b>{esc(row.spec.label)}</b><br>{esc(row.spec.help)}{src}")
+            hit = hits.get(name) if name else None
+            said = (hit.value, hit.unit, hit.source) if hit is not None else None  # type: ignore[attr-defined]
+            if said != row.said:  # the tooltip is built again only when its default changed
+                row.said = said
+                src = ""
+                if said is not None:
+                    value = fmt(said[0]) if isinstance(said[0], float) else said[0]
+                    src = f"<br><i>Default used now:</i> {esc(value)} {esc(said[1])} — {esc(said[2])}"
+                row.set_tooltip(f"<b>{esc(row.spec.label)}</b><br>{esc(row.spec.help)}{src}")
         mode_text = f"Species default ({plan.resolved.mode})"
         if self.mode_combo.itemText(0) != mode_text:
             self.mode_combo.setItemText(0, mode_text)
