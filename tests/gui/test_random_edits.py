@@ -30,8 +30,10 @@ def visible_texts(window) -> list[str]:
             out.append(item.text())
     for plot in (window.breath_plot.plot, window.map_plot.plot, window.sens_plot.plot, *window.wave_plot.plots):
         for item in plot.items:
-            if hasattr(item, "textItem"):
+            if hasattr(item, "textItem"):  # pyqtgraph's own label
                 out.append(item.textItem.toPlainText())
+            elif hasattr(item, "toPlainText"):  # ventset.gui.plots.PlotLabel
+                out.append(item.toPlainText())
     for r in range(window.assumptions.rowCount()):
         for c in range(window.assumptions.columnCount()):
             it = window.assumptions.item(r, c)

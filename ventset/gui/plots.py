@@ -8,12 +8,13 @@ import math
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QRectF, Qt, Signal
-from PySide6.QtGui import QBrush, QColor, QPen, QPixmapCache
+from PySide6.QtGui import QBrush, QColor, QFont, QPen, QPixmapCache, QTransform
 from PySide6.QtWidgets import (
     QBoxLayout,
     QFrame,
     QGraphicsItem,
     QGraphicsRectItem,
+    QGraphicsSimpleTextItem,
     QHBoxLayout,
     QLabel,
     QSizePolicy,
@@ -200,14 +201,62 @@ def _set_range(vb: pg.ViewBox, xr: tuple[float, float], yr: tuple[float, float],
         vb.setRange(xRange=xr, yRange=yr, padding=0, update=True, disableAutoRange=True)
 
 
-def _set_text(item: pg.TextItem, text: str, html: bool = False) -> None:
-    """Change a plot label only when its text changes (a new text re-lays it out)."""
-    if getattr(item, "_shown", None) != text:
-        item._shown = text
-        if html:
-            item.setHtml(text)
-        else:
-            item.setText(text)
+class PlotLabel(QGraphicsSimpleTextItem):
+    """A label in a plot, at a point in the plot's units, upright and at the screen's size whatever the axes'
+    scale, with ``anchor`` the fraction of its box that sits on the point (0, 0: top left; 1, 1: bottom
+    right) and ``angle`` degrees anticlockwise about it. Plain text only: what it is given is never read as
+    markup. Drawn by Qt itself, at a fraction of the cost of a text document (the item pyqtgraph offers); the
+    box keeps that item's 4-pixel margin round the text, so labels sit where they did."""
+
+    MARGIN = 4.0
+
+    def __init__(self, text: str = "", color: str | QColor | None = None, anchor=(0.0, 0.0),
+                 angle: float = 0.0) -> None:
+        super().__init__()
+        self.setFlag(QGraphicsItem.GraphicsItemFlag.ItemIgnoresTransformations)
+        self._anchor = (float(anchor[0]), float(anchor[1]))
+        self._angle = float(angle)
+        if color is not None:
+            self.setColor(color)
+        self.setText(text)
+
+    def setText(self, text: str) -> None:  # noqa: N802 - Qt's name
+        super().setText(text)
+        self._place()
+
+    def setFont(self, font: QFont) -> None:  # noqa: N802 - Qt's name
+        super().setFont(font)
+        self._place()
+
+    def setColor(self, color: str | QColor) -> None:  # noqa: N802 - pyqtgraph's name for the same
+        self.setBrush(QBrush(QColor(color)))
+
+    def setAnchor(self, anchor) -> None:  # noqa: N802 - pyqtgraph's name for the same
+        self._anchor = (float(anchor[0]), float(anchor[1]))
+        self._place()
+
+    def toPlainText(self) -> str:  # noqa: N802 - as a text document says it
+        return self.text()
+
+    def _place(self) -> None:
+        r = super().boundingRect()
+        m = self.MARGIN
+        w, h = r.width() + 2 * m, r.height() + 2 * m
+        t = QTransform()
+        t.rotate(-self._angle)
+        t.translate(m - self._anchor[0] * w, m - self._anchor[1] * h)
+        self.setTransform(t)
+
+
+def _set_text(item: PlotLabel, text: str, bold: bool = False) -> None:
+    """Change a plot label only when its text (or weight) changes (a new text re-lays it out)."""
+    if getattr(item, "_shown", None) != (text, bold):
+        item._shown = (text, bold)
+        if item.font().bold() != bold:
+            f = item.font()
+            f.setBold(bold)
+            item.setFont(f)
+        item.setText(text)
 
 
 def _show(item, on: bool) -> None:
@@ -217,16 +266,15 @@ def _show(item, on: bool) -> None:
         item.setVisible(on)
 
 
-def _anchor(item: pg.TextItem, anchor: tuple[float, float]) -> None:
+def _anchor(item: PlotLabel, anchor: tuple[float, float]) -> None:
     """Move a label's anchor only when it changes (a new anchor re-lays the label out)."""
     if getattr(item, "_anchored", None) != anchor:
         item._anchored = anchor
         item.setAnchor(anchor)
 
 
-def _text_item(colour: str, anchor=(0, 0)) -> pg.TextItem:
-    t = pg.TextItem("", color=QColor(colour), anchor=anchor)
-    return t
+def _text_item(colour: str, anchor=(0, 0), angle: float = 0.0) -> PlotLabel:
+    return PlotLabel("", QColor(colour), anchor=anchor, angle=angle)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -249,7 +297,7 @@ class BreathPlot(PlotCard):
         self.plot = self.widget.getPlotItem()
         self.plot.setLabel("bottom", "mL along the set breath")
         self.rects: list[QGraphicsRectItem] = []
-        self.labels: list[pg.TextItem] = []
+        self.labels: list[PlotLabel] = []
         for _ in range(self.POOL):
             r = QGraphicsRectItem()
             r.setVisible(False)
@@ -407,7 +455,7 @@ class SettingsMapPlot(PlotCard):
         self.iso = [self.iso_other, self.iso_target]
         for c in self.iso:
             self.plot.addItem(c)
-        self.iso_labels: list[pg.TextItem] = []
+        self.iso_labels: list[PlotLabel] = []
         for _ in range(self.N_LINES):
             t = _text_item(DAY.plot_fg, anchor=(1, 1))
             self.plot.addItem(t)
@@ -418,15 +466,15 @@ class SettingsMapPlot(PlotCard):
         self.plot.addItem(self.box_label)
         self.peak_curve = pg.PlotCurveItem(connect="finite")
         self.plot.addItem(self.peak_curve)
-        self.peak_label = pg.TextItem("", anchor=(0, 0), angle=90)
+        self.peak_label = _text_item(DAY.plot_fg, anchor=(0, 0), angle=90)
         self.plot.addItem(self.peak_label)
         self.plateau_line = pg.InfiniteLine(angle=90, movable=False)
         self.plot.addItem(self.plateau_line)
-        self.plateau_label = pg.TextItem("", anchor=(0, 0), angle=90)
+        self.plateau_label = _text_item(DAY.plot_fg, anchor=(0, 0), angle=90)
         self.plot.addItem(self.plateau_label)
         self.dead_line = pg.InfiniteLine(angle=90, movable=False)
         self.plot.addItem(self.dead_line)
-        self.dead_label = pg.TextItem("", anchor=(1, 0))
+        self.dead_label = _text_item(DAY.plot_fg, anchor=(1, 0))
         self.plot.addItem(self.dead_label)
         self.trap_line = pg.InfiniteLine(angle=0, movable=False)
         self.plot.addItem(self.trap_line)
@@ -502,7 +550,7 @@ class SettingsMapPlot(PlotCard):
                 _show(lab, False)
                 continue
             num = fmt(_gas(line.level_mmhg, gas_unit), 3)
-            _set_text(lab, f"<b>{num} target</b>" if line.is_target else num, html=line.is_target)
+            _set_text(lab, f"{num} target" if line.is_target else num, bold=line.is_target)
             left = line.label_at[0] < v0 + 0.3 * (v1 - v0)  # near the left axis: write to the right
             _anchor(lab, (0, 1) if left else (1, 1))
             lab.setPos(*line.label_at)
