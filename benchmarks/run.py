@@ -299,6 +299,9 @@ def edit_runs(n: int = 200, panels: bool = False, rss_edits: int = 2000) -> dict
         w.show()
     for _ in range(5):
         app.processEvents()
+    from ventset.gui.app import after_first_frame
+
+    after_first_frame()  # as the program does once its window is up (start-up's objects out of collections)
     clock = PaintClock()
     window.clock = clock
     floor.win.clock = clock

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import gc
 import importlib
 import json
 import os
@@ -213,12 +214,25 @@ def main(argv: Sequence[str] | None = None) -> int:
     _safe_streams()
     args = list(sys.argv[1:] if argv is None else argv)
     if not args:  # the window: no parser to build (it imports every command's module, a tenth of the start-up)
-        return _run(_cmd_gui, argparse.Namespace(command=None), None)
+        return _run_window(argparse.Namespace(command=None), None)
+    gc.enable()  # (``python -m ventset`` starts without it: see __main__)
     parser = build_parser()
     ns = parser.parse_args(file_args(args, parser))
     handlers = {"plan": _cmd_plan, "species": _cmd_species, "parts": _cmd_parts, "gui": _cmd_gui,
                 "demo": lambda _ns: run_demo(), None: _cmd_gui, **ns._handlers}
+    if handlers[ns.command] is _cmd_gui:
+        return _run_window(ns, parser)
     return _run(handlers[ns.command], ns, parser)
+
+
+def _run_window(ns: argparse.Namespace, parser: argparse.ArgumentParser | None) -> int:
+    """The window, started with the cyclic garbage collector off (ventset.gui.app.after_first_frame turns it
+    on once the first frame is drawn); on again whatever happens."""
+    gc.disable()
+    try:
+        return _run(_cmd_gui, ns, parser)
+    finally:
+        gc.enable()
 
 
 def _run(handler, ns: argparse.Namespace, parser: argparse.ArgumentParser | None) -> int:

@@ -6,6 +6,7 @@ its plan).
 
 from __future__ import annotations
 
+import gc
 import os
 import sys
 import time
@@ -53,6 +54,14 @@ def _open_case(window, case_path: str, smoke: bool) -> str | None:
     return visible(req.patient.name or req.patient.species, 200) if req is not None else ""
 
 
+def after_first_frame() -> None:
+    """Once the window is on screen: what start-up made (modules, the window, the library) is kept out of
+    every later collection (gc.freeze) and the cyclic garbage collector, off during start-up, runs again.
+    Edits then never wait for a collection that walks the whole program's objects."""
+    gc.freeze()
+    gc.enable()
+
+
 def run(argv: list[str] | None = None, case_path: str | None = None) -> int:
     """Open the window with the demo patient, or with the case at ``case_path``; returns the exit status."""
     t0 = time.perf_counter()
@@ -85,6 +94,7 @@ def run(argv: list[str] | None = None, case_path: str | None = None) -> int:
     window = MainWindow(settings)
     install_extensions(window)
     window.show()
+    QTimer.singleShot(0, after_first_frame)
     opened = _open_case(window, case_path, smoke) if case_path else None
     if smoke:
         if case_path and opened is None:

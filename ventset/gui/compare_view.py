@@ -326,25 +326,4 @@ def _current(window) -> Request | None:
     return None if ctl.plan is None or ctl.stale else ctl.plan.request
 
 
-def install(window) -> None:
-    """Add Case → "Compare with…" and View → "Dead space, step by step…" to ventset's window."""
-    from PySide6.QtGui import QAction
-
-    from ventset.gui.deadspace_view import open_deadspace
-
-    case = window.menu("Case")
-    act = QAction("Compare with…", window)
-    act.setObjectName("act-compare")
-    act.triggered.connect(lambda: open_compare(window))
-    quit_action = getattr(window, "act_quit", None)
-    if quit_action is not None and quit_action in case.actions():
-        case.insertAction(quit_action, act)
-    else:
-        case.addAction(act)
-    window.act_compare = act
-    view_menu = window.menu("View")
-    teach = QAction("Dead space, step by step…", window)
-    teach.setObjectName("act-deadspace")
-    teach.triggered.connect(lambda: open_deadspace(window))
-    view_menu.addAction(teach)
-    window.act_deadspace = teach
+from ventset.gui.compare_menu import install  # noqa: E402,F401 (the menu entries: installed from here too)

@@ -53,7 +53,7 @@ UNDO_STEPS = 200  # undo history kept (the oldest steps are dropped): bounded me
 # Panels added by other modules: each defines install(window), called by ventset.gui.app.run() after the
 # window is built (a failing panel is reported on stderr and the planning window still opens). The record
 # (timeline.py) and fish-irrigation (aquatic_panel.py) tabs are built when first shown (ondemand.py).
-EXTENSIONS: tuple[str, ...] = ("ventset.gui.case_ui", "ventset.gui.ondemand", "ventset.gui.compare_view")
+EXTENSIONS: tuple[str, ...] = ("ventset.gui.case_ui", "ventset.gui.ondemand", "ventset.gui.compare_menu")
 
 
 def install_extensions(window: MainWindow) -> list[str]:
