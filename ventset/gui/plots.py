@@ -132,6 +132,8 @@ class PlotCard(QFrame):
             ax.setTextPen(QColor(theme.plot_fg))
             ax.setStyle(tickFont=self.font())
             ax.label.setFont(self.font())
+            # A mouse's volumes are read as 0.1 mL, not as "100 (mL) (x0.001)" (a prefix the label may not fit).
+            ax.enableAutoSIPrefix(False)
             # Axes change only when their range does: keep them as a pixmap instead of redrawing the text.
             ax.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
 
