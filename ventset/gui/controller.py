@@ -70,15 +70,21 @@ class PlanController(QObject):
         """True when a replan has been asked for and not yet run."""
         return self._timer.isActive()
 
-    def set_request(self, request: Request, *, from_form: bool = False, fallback: Request | None = None) -> None:
-        """Replace the current request (one replan, on the next event-loop pass). With ``fallback`` (a number
+    def set_request(self, request: Request, *, from_form: bool = False, fallback: Request | None = None,
+                    now: bool = False) -> None:
+        """Replace the current request (one replan, on the next event-loop pass; ``now``: at once, so that a
+        keystroke's number is painted in the same pass as the character typed). With ``fallback`` (a number
         being typed) a request that cannot be planned says nothing yet: ``fallback`` is planned instead."""
         self.request = request
         self._fallback = fallback
         self._pending_errors = None
         if not from_form:
             self.request_changed.emit(request)
-        self._timer.start()
+        if now:
+            self._timer.stop()
+            self.replan_now()
+        else:
+            self._timer.start()
 
     def clear(self) -> None:
         """Forget the patient (a new case): no request and no plan until the form describes a new one."""

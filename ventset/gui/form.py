@@ -819,7 +819,7 @@ class InputForm(QWidget):
         if errors:
             request = self._settled  # does not parse: the settled plan goes back on screen
         if request is not None and (request != self.controller.request or self.controller.stale):  # not for '18.'
-            self.controller.set_request(request, from_form=True, fallback=self._settled)
+            self.controller.set_request(request, from_form=True, fallback=self._settled, now=True)
 
     def _submit(self) -> None:
         """Plan the form as it stands and settle it (errors are said now)."""
