@@ -55,3 +55,16 @@ def settle(window) -> None:
     window.controller.flush()
     QApplication.processEvents()
     window.controller.flush()
+
+
+def enter(qtbot, window, species: str, mass: str) -> None:
+    """Choose ``species`` and type ``mass`` over the body mass, then Enter, as a user would; settled."""
+    from PySide6.QtCore import Qt
+
+    window.form.species.picked.emit(species)
+    edit = window.form.rows["mass"].edit
+    edit.setFocus()
+    edit.selectAll()
+    qtbot.keyClicks(edit, mass)
+    qtbot.keyClick(edit, Qt.Key.Key_Return)
+    settle(window)

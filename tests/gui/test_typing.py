@@ -11,7 +11,7 @@ import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication
 
-from tests.gui.conftest import settle
+from tests.gui.conftest import enter, settle
 from ventset.gui.form import TYPING_PAUSE_MS
 
 
@@ -43,13 +43,8 @@ def test_every_keystroke_that_gives_a_plan_is_planned_in_its_own_pass(qtbot, win
 
 
 def test_a_half_typed_number_that_cannot_be_planned_keeps_the_settled_plan(qtbot, window):
-    window.form.species.picked.emit("horse")
+    enter(qtbot, window, "horse", "520")
     edit = window.form.rows["mass"].edit
-    edit.setFocus()
-    edit.selectAll()
-    qtbot.keyClicks(edit, "520")
-    qtbot.keyClick(edit, Qt.Key.Key_Return)
-    settle(window)
     settled_mass = window.controller.plan.resolved.mass_kg
     assert settled_mass == 520.0 and not window.controller.stale
     errors: list = []

@@ -7,7 +7,7 @@ import numpy as np
 from PySide6.QtCore import QEvent, QObject, Qt
 from PySide6.QtWidgets import QApplication
 
-from tests.gui.conftest import settle
+from tests.gui.conftest import enter, settle
 from ventset.units import fmt
 
 
@@ -155,13 +155,7 @@ def test_a_fields_tooltip_names_the_default_in_use_now(qtbot, window):
     row = window.form.rows["body-temperature"]
     cat = window.controller.plan
     assert said(cat) in row.edit.toolTip() and "Default used now" in row.edit.toolTip()
-    window.form.species.picked.emit("horse")
-    edit = window.form.rows["mass"].edit
-    edit.setFocus()
-    edit.selectAll()
-    qtbot.keyClicks(edit, "450")
-    qtbot.keyClick(edit, Qt.Key.Key_Return)
-    settle(window)
+    enter(qtbot, window, "horse", "450")
     horse = window.controller.plan
     assert horse.resolved.species == "horse" and said(horse) != said(cat)
     assert said(horse) in row.edit.toolTip() and said(cat) not in row.edit.toolTip()
