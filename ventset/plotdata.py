@@ -143,10 +143,10 @@ def same(a: object, b: object) -> bool:
     element (NaN equal to NaN): a view whose data is the same need not be drawn again."""
     if type(a) is not type(b):
         return False
-    if isinstance(a, np.ndarray):
-        return a.shape == b.shape and bool(np.array_equal(a, b, equal_nan=a.dtype.kind == "f"))  # type: ignore
-    if isinstance(a, tuple | list):
-        return len(a) == len(b) and all(same(x, y) for x, y in zip(a, b, strict=True))  # type: ignore[arg-type]
+    if isinstance(a, np.ndarray) and isinstance(b, np.ndarray):
+        return a.shape == b.shape and bool(np.array_equal(a, b, equal_nan=a.dtype.kind == "f"))
+    if isinstance(a, tuple | list) and isinstance(b, tuple | list):
+        return len(a) == len(b) and all(same(x, y) for x, y in zip(a, b, strict=True))
     if hasattr(a, "__dataclass_fields__"):
         return all(same(getattr(a, f), getattr(b, f)) for f in a.__dataclass_fields__)
     if isinstance(a, float) and isinstance(b, float) and math.isnan(a) and math.isnan(b):
