@@ -20,7 +20,7 @@ def _settle():
 
 @pytest.fixture
 def cat_window(make_window):
-    from ventset.gui.compare_view import install
+    from ventset.gui.compare_menu import install
 
     w = make_window(CAT)
     install(w)

@@ -325,5 +325,3 @@ def _current(window) -> Request | None:
     ctl = window.controller
     return None if ctl.plan is None or ctl.stale else ctl.plan.request
 
-
-from ventset.gui.compare_menu import install  # noqa: E402,F401 (the menu entries: installed from here too)
