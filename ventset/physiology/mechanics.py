@@ -69,6 +69,17 @@ def _exponential_times(duration_s: float, tau_s: float, n: int):
     return t[np.concatenate(([True], np.diff(t) > 0))]  # (np.unique would import numpy.ma: 10 ms at start-up)
 
 
+def _phase_times(t_flow_s: float, pause_s: float, te_s: float, tau_s: float, curved_flow: bool, n: int):
+    """Sample times within inspiratory flow, the pause and expiration (each from 0, both ends): the straight
+    phases by their ends, the exponential ones at about ``n`` × their share of the breath, at least n/2."""
+    import numpy as np
+
+    share = int(round(n * t_flow_s / (t_flow_s + pause_s + te_s)))
+    flow = _exponential_times(t_flow_s, tau_s, max(n // 2, share)) if curved_flow else np.array([0.0, t_flow_s])
+    pause = np.array([0.0, pause_s]) if pause_s > 0 else np.zeros(0)
+    return flow, pause, _exponential_times(te_s, tau_s, max(n // 2, n - share))
+
+
 def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2o: float,
               resistance_cmh2o_l_s: float, peep_cmh2o: float, mode: str, breaths: int = 3,
               points_per_breath: int = 50, pause_s: float = 0.0) -> dict:
@@ -93,11 +104,7 @@ def waveforms(vt_ml: float, rate_per_min: float, ti_s: float, compliance_ml_cmh2
     te = cycle - ti_s
     pause = pause_s
     t_flow = ti_s - pause
-    n = points_per_breath
-    n_i = max(n // 2, int(round(n * t_flow / cycle)))  # an exponential phase gets at least half the points
-    ti_local = _exponential_times(t_flow, tau, n_i) if mode == "pressure" else np.array([0.0, t_flow])
-    tp_local = np.array([0.0, pause]) if pause > 0 else np.zeros(0)
-    te_local = _exponential_times(te, tau, max(n // 2, n - int(round(n * t_flow / cycle))))
+    ti_local, tp_local, te_local = _phase_times(t_flow, pause, te, tau, mode == "pressure", points_per_breath)
     t_all, p_all, q_all, v_all = [], [], [], []
     v0 = 0.0
     dp = pressure_control_delta_cmh2o(vt_ml, t_flow, c, tau) if mode == "pressure" else 0.0
