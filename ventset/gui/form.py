@@ -37,7 +37,7 @@ from ventset.gui.situations import SituationPicker
 from ventset.gui.text import esc, plain, plain_tip
 from ventset.gui.theme import DAY, Theme, scaled_font
 from ventset.library import TAXON_PREFIX, Library
-from ventset.model import STRATEGIES, STRATEGY_LABELS, Plan, Request
+from ventset.model import STRATEGIES, STRATEGY_LABELS, Assumption, Plan, Request
 from ventset.present.quantities import show
 from ventset.units import fmt
 
@@ -962,7 +962,7 @@ class InputForm(QWidget):
         sources = {}
         for a in plan.assumptions:
             sources[a.name] = a
-        hits: dict[str, object] = {}
+        hits: dict[str, Assumption | None] = {}
         for name in {n for n in FIELD_ASSUMPTION.values() if n}:  # each field's assumption, found once a plan
             hits[name] = sources.get(name) or next((a for n, a in sources.items() if n.startswith(name)), None)
         for key, row in self.rows.items():
@@ -981,7 +981,7 @@ class InputForm(QWidget):
                 row.edit.setPlaceholderText(ph)
             name = FIELD_ASSUMPTION.get(key)
             hit = hits.get(name) if name else None
-            said = (hit.value, hit.unit, hit.source) if hit is not None else None  # type: ignore[attr-defined]
+            said = (hit.value, hit.unit, hit.source) if hit is not None else None
             if said != row.said:  # the tooltip is built again only when its default changed
                 row.said = said
                 src = ""

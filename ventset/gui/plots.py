@@ -330,8 +330,8 @@ class BreathPlot(PlotCard):
 
     def show_plan(self, plan: Plan) -> None:
         b = plotdata.breath_composition(plan)
-        if self.data is not None and plotdata.same(b, self.data):
-            return  # nothing this plot shows has changed (a PEEP, a name): not drawn again
+        if not self.changed("shown", b):
+            return  # nothing this plot shows has changed (a new name, say): not drawn again
         self.data = b
         self._draw(self.data)
         b = self.data
@@ -697,7 +697,6 @@ class WaveformPlot(PlotCard):
         self.add_plot(self.widget)
         self.caches = [{}, {}, {}]
         self.data: plotdata.Waveforms | None = None
-        self._shown: tuple = ()
         self.set_theme(DAY)
 
     def set_theme(self, theme: Theme) -> None:
@@ -716,10 +715,9 @@ class WaveformPlot(PlotCard):
     def show_plan(self, plan: Plan) -> None:
         w = plotdata.waveforms(plan)
         p = plan.pressures
-        shown = (w, p.pressure_limit_cmh2o, p.peep_cmh2o, p.time_constant_s, plan.ventilation.te_s)
-        if plotdata.same(shown, self._shown):
+        if not self.changed("shown", (w, p.pressure_limit_cmh2o, p.peep_cmh2o, p.time_constant_s,
+                                      plan.ventilation.te_s)):
             return  # nothing this plot shows has changed: not drawn again
-        self._shown = shown
         self.data = w
         for c, y in zip(self.curves, (w.pressure_cmh2o, w.flow_l_min, w.volume_ml), strict=True):
             c.setData(w.time_s, y)
@@ -783,7 +781,6 @@ class SensitivityPlot(PlotCard):
         self.add_plot(self.widget)
         self.cache: dict = {}
         self.data: plotdata.Sensitivity | None = None
-        self._shown: tuple = ()
         self.gas_unit = "mmHg"
         self.set_theme(DAY)
 
@@ -805,10 +802,8 @@ class SensitivityPlot(PlotCard):
     def show_plan(self, plan: Plan, gas_unit: str) -> None:
         s = plotdata.dead_space_sensitivity(plan)
         v = plan.ventilation
-        shown = (s, gas_unit, v.tidal_volume_ml, v.rate_per_min)
-        if plotdata.same(shown, self._shown):
+        if not self.changed("shown", (s, gas_unit, v.tidal_volume_ml, v.rate_per_min)):
             return  # nothing this plot shows has changed: not drawn again
-        self._shown = shown
         self.data, self.gas_unit = s, gas_unit
         if self.cache.get("label") != gas_unit:  # a new label redraws the axis: only on a unit change
             self.cache["label"] = gas_unit
@@ -825,7 +820,6 @@ class SensitivityPlot(PlotCard):
         _anchor(self.now_label, (-0.15, 0.5) if s.current_ml < 0.5 * s.x_range[1] else (1.1, 0.5))
         self.now_label.setPos(s.current_ml, shown)
         _set_range(self.plot.vb, s.x_range, (0.0, y_hi), self.cache)
-        v = plan.ventilation
         if math.isfinite(cur):
             slope = _gas(s.slope_mmhg_per_ml, gas_unit)
             i = int(np.argmin(np.abs(s.apparatus_ml - s.current_ml)))
