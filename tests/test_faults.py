@@ -195,7 +195,7 @@ def _run_as(nobody, tmp_path: Path) -> None:
     # may sit in a folder only root may read.
     code = ("import os, sys, io, contextlib\n"
             "import ventset.cli, ventset.cli_cases, ventset.cli_titrate, ventset.planner, ventset.report\n"
-            "import ventset.summary, ventset.autosave, ventset.library\n"
+            "import ventset.summary, ventset.autosave, ventset.library, ventset.case_irrigation, ventset.cases\n"
             "ventset.library.load_library()\n"
             "with contextlib.redirect_stdout(io.StringIO()): ventset.cli.main(['plan', '--species', 'dog', "
             "'--mass', '20'])\n"
