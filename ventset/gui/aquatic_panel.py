@@ -30,6 +30,7 @@ from ventset.aquatic.plotdata import content_curve, delivery_curve
 from ventset.aquatic.report import summary_lines
 from ventset.errors import InputError
 from ventset.gui.aquatic_case import CaseBar
+from ventset.gui.plotarea import PlotView
 from ventset.gui.plots import _new_plot_widget, _pen
 from ventset.gui.text import Text
 from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours
@@ -52,7 +53,7 @@ def _plain_label(text: str, parent: QWidget) -> QLabel:
     return label
 
 
-def _plot(parent: QWidget, x_label: str, y_label: str) -> pg.PlotWidget:
+def _plot(parent: QWidget, x_label: str, y_label: str) -> PlotView:
     w = _new_plot_widget(parent)
     w.setMinimumHeight(w.fontMetrics().height() * 14)
     for name, text in (("bottom", x_label), ("left", y_label)):

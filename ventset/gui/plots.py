@@ -24,6 +24,7 @@ from PySide6.QtWidgets import (
 )
 
 from ventset import plotdata
+from ventset.gui.plotarea import PlotArea, PlotView
 from ventset.gui.text import Text, plain
 from ventset.gui.theme import DAY, Theme, scaled_font
 from ventset.model import Plan
@@ -123,7 +124,7 @@ class PlotCard(QFrame):
         self._parts[part] = value
         return True
 
-    def style_plot(self, plot: pg.PlotItem, theme: Theme) -> None:
+    def style_plot(self, plot: PlotArea, theme: Theme) -> None:
         ratio = max(1.0, self.devicePixelRatioF())
         QPixmapCache.setCacheLimit(int(AXIS_CACHE_KIB * ratio * ratio))
         for name in ("left", "bottom"):
@@ -185,14 +186,9 @@ class PlotPage(QWidget):
         self._fit(self.width())
 
 
-def _new_plot_widget(parent: QWidget) -> pg.PlotWidget:
-    w = pg.PlotWidget(parent, enableMenu=False)  # no context menus: not built at all (a third of a plot's making)
-    w.setMenuEnabled(False)
-    w.setMouseEnabled(x=False, y=False)
-    w.hideButtons()
-    w.getPlotItem().vb.disableAutoRange()
+def _new_plot_widget(parent: QWidget) -> PlotView:
+    w = PlotView(parent)  # no menus, buttons or control panel: not built at all (ventset.gui.plotarea)
     w.setMinimumHeight(w.fontMetrics().height() * 6)
-    w.setFocusPolicy(Qt.FocusPolicy.NoFocus)
     return w
 
 
@@ -667,13 +663,10 @@ class WaveformPlot(PlotCard):
         self.widget = pg.GraphicsLayoutWidget(self)
         self.widget.setFocusPolicy(Qt.FocusPolicy.NoFocus)
         self.widget.setMinimumHeight(self.fontMetrics().height() * 12)
-        self.plots: list[pg.PlotItem] = []
+        self.plots: list[PlotArea] = []
         for i, unit in enumerate(("cmH2O", "L/min", "mL")):
-            p = self.widget.addPlot(row=i, col=0, enableMenu=False)
-            p.setMenuEnabled(False)
-            p.setMouseEnabled(x=False, y=False)
-            p.hideButtons()
-            p.vb.disableAutoRange()
+            p = PlotArea()
+            self.widget.addItem(p, row=i, col=0)
             p.setLabel("left", unit)
             p.getAxis("left").enableAutoSIPrefix(False)  # tiny patients: no "(x0.001)" over the unit label
             if i < 2:
