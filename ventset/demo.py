@@ -19,7 +19,7 @@ def demo_request(library=None) -> Request:
     """The demo patient's Request (catalogue parts from ``library``, the shipped library by default)."""
     from ventset.fields import request_from_inputs
     from ventset.library import load_library
-    from ventset.partslib import part_from_text
+    from ventset.part_text import part_from_text
 
     lib = library or load_library()
     parts = tuple(part_from_text(key, lib) for key in DEMO_PARTS)

@@ -14,14 +14,14 @@ both are re-exported here, so ``ventset.partslib`` stays the one import path.
 from __future__ import annotations
 
 import os
-from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
 from ventset import storage
 from ventset.case_model import now_iso
-from ventset.errors import InputError, visible
+from ventset.errors import InputError
 from ventset.model import ApparatusPart
+from ventset.part_text import part_from_text
 from ventset.partslib_machines import ClinicMachine, ControlRange, machine_from_dict, machine_to_dict
 from ventset.partslib_merge import Conflict, MergeReport, merge
 from ventset.partslib_model import (
@@ -42,7 +42,6 @@ from ventset.partslib_model import (
     clean_text,
     name_key,
 )
-from ventset.textpolicy import check_text
 
 __all__ = ["FORMAT", "SCHEMA_VERSION", "FILE_NAME", "PREVIOUS_NAME", "MAX_BYTES", "MAX_VOLUME_ML", "MAX_NAME",
            "MAX_NOTE", "CONFLICT_CHOICES", "ClinicLibraryError", "ClinicLibrarySaveError", "name_key", "ClinicPart",
@@ -268,36 +267,6 @@ def all_parts(clinic: ClinicLibrary, library=None) -> list[PartRow]:
 # --------------------------------------------------------------------------------------------
 # a part from what a person typed
 # --------------------------------------------------------------------------------------------
-
-def part_from_text(item: str, library, clinic: Callable[[str], ApparatusPart | None] | None = None) \
-        -> ApparatusPart:
-    """A part from typed text: 'NAME=VOLUME' ('hme=12 mL'), a catalogue key, or (with ``clinic``, a lookup of
-    the clinic's own parts by name) a clinic part. Raises InputError with the key 'apparatus'."""
-    from ventset.units import parse_quantity
-
-    name, _, vol = item.partition("=")
-    name = name.strip()
-    if not name:
-        raise InputError("apparatus", item, "needs NAME=VOLUME or a catalogue key")
-    check_text("part-name", name, label="Apparatus")
-    if vol.strip():
-        label = f"Apparatus '{visible(name, 30)}'"
-        try:
-            volume = parse_quantity(vol, "mL", "apparatus")
-        except InputError as err:
-            raise err.named(label) from None
-        if volume < 0:
-            raise InputError("apparatus", vol, "volume must be 0 mL or more", label=label)
-        return ApparatusPart(name, volume)
-    if name in library.parts:
-        part = library.parts[name]
-        return ApparatusPart(part.label, part.volume_ml.value, part.volume_ml.source)
-    found = clinic(name) if clinic is not None else None
-    if found is not None:
-        return found
-    raise InputError("apparatus", item, "is not a catalogue or clinic part; give a volume, e.g. 'hme=12 mL' "
-                                        "(see 'ventset parts', 'ventset clinic-parts list')")
-
 
 _MACHINES_READ: dict[str, object] = {}  # the last clinic machines read, by the file's identity (see below)
 

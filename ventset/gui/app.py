@@ -67,6 +67,11 @@ def run(argv: list[str] | None = None, case_path: str | None = None) -> int:
     t0 = time.perf_counter()
     if not display_available():
         return _no_display(case_path)
+    # numpy's linear algebra library starts a pool of threads when numpy is imported. ventset's arrays are a few
+    # thousand numbers, never a matrix product worth sharing: one thread, and the pool's start-up (about 15 ms)
+    # and its threads competing with the window for the processors are saved. Only for the window's process
+    # (not when ventset is imported as a library), and only if the user has not chosen a number.
+    os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
     from PySide6.QtCore import QTimer
     from PySide6.QtWidgets import QApplication, QDialog
 
