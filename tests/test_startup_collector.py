@@ -5,6 +5,7 @@ command is not the window, whatever happens (the gc module's own switches, check
 from __future__ import annotations
 
 import gc
+import sys
 
 import pytest
 
@@ -46,3 +47,32 @@ def test_after_the_first_frame_start_up_objects_leave_the_collections():
     finally:
         gc.unfreeze()
         gc.enable()
+
+
+
+def _window_threads(tmp_path, given: str | None) -> tuple[str, int]:
+    import os
+    import subprocess
+    import sys
+
+    env = {k: v for k, v in os.environ.items() if k != "OPENBLAS_NUM_THREADS"}
+    env.update(QT_QPA_PLATFORM="offscreen", VENTSET_GUI_SMOKE="1", VENTSET_SETTINGS_DIR=str(tmp_path))
+    if given is not None:
+        env["OPENBLAS_NUM_THREADS"] = given
+    code = ("import os, sys\nfrom ventset.gui import app\nassert 'numpy' not in sys.modules\napp.run()\n"
+            "print(os.environ['OPENBLAS_NUM_THREADS'], len(os.listdir('/proc/self/task')))")
+    out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, timeout=120)
+    value, threads = out.stdout.splitlines()[-1].split()
+    return value, int(threads)
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="counts the process's threads in /proc")
+def test_the_window_process_keeps_numpys_thread_pool_to_one_thread_unless_the_user_chose(tmp_path):
+    """OpenBLAS (numpy's linear algebra) reads OPENBLAS_NUM_THREADS when numpy is first imported (OpenBLAS's
+    documented variable) and starts that many threads; the process's threads are counted as Linux lists them."""
+    pytest.importorskip("PySide6")
+    default = _window_threads(tmp_path, None)
+    assert default == _window_threads(tmp_path, "1")
+    assert default[0] == "1"
+    chosen = _window_threads(tmp_path, "3")
+    assert chosen[0] == "3" and chosen[1] > default[1]  # the user's number is kept, and obeyed
