@@ -17,22 +17,13 @@ def part_from_text(item: str, library, clinic: Callable[[str], ApparatusPart | N
         -> ApparatusPart:
     """A part from typed text: 'NAME=VOLUME' ('hme=12 mL'), a catalogue key, or (with ``clinic``, a lookup of
     the clinic's own parts by name) a clinic part. Raises InputError with the key 'apparatus'."""
-    from ventset.units import parse_quantity
-
     name, _, vol = item.partition("=")
     name = name.strip()
     if not name:
         raise InputError("apparatus", item, "needs NAME=VOLUME or a catalogue key")
     check_text("part-name", name, label="Apparatus")
     if vol.strip():
-        label = f"Apparatus '{visible(name, 30)}'"
-        try:
-            volume = parse_quantity(vol, "mL", "apparatus")
-        except InputError as err:
-            raise err.named(label) from None
-        if volume < 0:
-            raise InputError("apparatus", vol, "volume must be 0 mL or more", label=label)
-        return ApparatusPart(name, volume)
+        return ApparatusPart(name, part_volume_ml(vol, f"Apparatus '{visible(name, 30)}'"))
     if name in library.parts:
         part = library.parts[name]
         return ApparatusPart(part.label, part.volume_ml.value, part.volume_ml.source)
@@ -41,3 +32,17 @@ def part_from_text(item: str, library, clinic: Callable[[str], ApparatusPart | N
         return found
     raise InputError("apparatus", item, "is not a catalogue or clinic part; give a volume, e.g. 'hme=12 mL' "
                                         "(see 'ventset parts', 'ventset clinic-parts list')")
+
+
+def part_volume_ml(text: str, label: str) -> float:
+    """The volume (mL, 0 or more) typed for a part ('12', '12 mL', '0.5 L'); raises InputError with the key
+    'apparatus', named ``label``."""
+    from ventset.units import parse_quantity
+
+    try:
+        volume = parse_quantity(text, "mL", "apparatus")
+    except InputError as err:
+        raise err.named(label) from None
+    if volume < 0:
+        raise InputError("apparatus", text, "volume must be 0 mL or more", label=label)
+    return volume

@@ -22,6 +22,7 @@ from ventset.errors import InputError
 from ventset.fields import FIELDS, SITUATIONS_KEY, TEXT_INPUTS, get_path, parse_field, request_from_inputs
 from ventset.library import TAXON_PREFIX, Library
 from ventset.model import ApparatusPart, Patient, Request
+from ventset.part_text import part_volume_ml
 from ventset.units import check_range, convert, find_unit, fmt, parse_quantity
 
 TEXT, UNIT, EXACT, CHOICE = "text:", "unit:", "exact:", "choice:"
@@ -240,14 +241,7 @@ def part_volume(part: tuple) -> float:
     name, text = part[0], part[1]
     if len(part) > 3 and part[3] is not None and edit_text(part[3]) == text:
         return float(part[3])
-    label = f"Apparatus '{name}'"
-    try:
-        value = parse_quantity(text, "mL", "apparatus")
-    except InputError as err:
-        raise err.named(label) from None
-    if value < 0:
-        raise InputError("apparatus", text, "volume must be 0 mL or more", label=label)
-    return value
+    return part_volume_ml(text, f"Apparatus '{name}'")
 
 
 def request_from_state(state: dict, library: Library) -> tuple[Request | None, list[InputError]]:
