@@ -87,3 +87,67 @@ def test_library_from_the_cache_equals_the_library_from_the_files(cache):
         assert second is not first and second == first
     finally:
         load_library.cache_clear()
+
+
+# ---- built(): the checked library kept on disk, stamped with the bytes of its data files and the core's code.
+
+def _fresh(folder=None):
+    load_library.cache_clear()
+    try:
+        return load_library(folder)
+    finally:
+        load_library.cache_clear()
+
+
+def test_the_kept_library_equals_one_built_with_every_cache_off(cache, monkeypatch):
+    first, second = _fresh(), _fresh()  # the second comes from the kept entry
+    assert len(list(cache.glob("library-*.pickle"))) == 1
+    monkeypatch.setenv(CACHE_DIR_ENV, "off")
+    reference = _fresh()  # parsed by tomllib and checked, nothing read from a cache
+    assert second == first == reference
+    assert second.species["dog"].peep_cmh2o == reference.species["dog"].peep_cmh2o
+
+
+def test_the_library_reads_exactly_the_files_its_entry_is_stamped_with(monkeypatch):
+    import ventset.library as lib
+
+    monkeypatch.setenv(CACHE_DIR_ENV, "off")
+    read = []
+    real = lib._read_toml
+    monkeypatch.setattr(lib, "_read_toml", lambda path: read.append(path.name) or real(path))
+    _fresh()
+    assert sorted(set(read)) == sorted(lib.LIBRARY_FILES)
+
+
+def test_a_changed_data_file_is_read_again(cache, tmp_path):
+    import shutil
+
+    data = tmp_path / "data"
+    shutil.copytree(resource_path("species.toml").parent, data)
+    assert _fresh(data).species["dog"].peep_cmh2o.value == 5
+    text = (data / "species.toml").read_text(encoding="utf-8")
+    dog = text.index("[species.dog]")
+    at = text.index('peep_cmh2o = { value = 5,', dog)
+    (data / "species.toml").write_text(text[:at] + text[at:].replace("value = 5,", "value = 6,", 1), encoding="utf-8")
+    assert _fresh(data).species["dog"].peep_cmh2o.value == 6
+
+
+def test_a_changed_code_file_builds_again_and_a_damaged_entry_is_replaced(cache, tmp_path):
+    from ventset.parsecache import built
+
+    data, code = tmp_path / "d.toml", tmp_path / "c.py"
+    data.write_text("x = 1\n", encoding="utf-8")
+    code.write_text("A = 1\n", encoding="utf-8")
+    calls = []
+
+    def build():
+        calls.append(1)
+        return {"n": len(calls)}
+
+    assert built("probe", [data, code], build) == {"n": 1}
+    assert built("probe", [data, code], build) == {"n": 1}  # kept
+    code.write_text("A = 2\n", encoding="utf-8")             # same size, other bytes
+    assert built("probe", [data, code], build) == {"n": 2}
+    next(cache.glob("probe-*.pickle")).write_bytes(b"\x80damaged")
+    assert built("probe", [data, code], build) == {"n": 3}
+    assert built("probe", [data, code], build) == {"n": 3}

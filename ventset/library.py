@@ -13,7 +13,7 @@ from typing import Any
 
 from ventset.datafiles import FILES
 from ventset.errors import DataError
-from ventset.parsecache import parse_toml
+from ventset.parsecache import built, core_sources, parse_toml
 from ventset.resources import resource_dir, resource_path
 from ventset.schema import Sourced, SourcedNumber, Span, Where
 from ventset.situations import Situation, build_situation
@@ -299,8 +299,18 @@ def load_library(folder: Path | None = None) -> Library:
     return _load_library(resource_dir(folder))
 
 
+# The files the library is built from (and nothing else): its cache entry is stamped with their bytes.
+LIBRARY_FILES = ("species.toml", "apparatus.toml", "cautions.toml", "planning.toml", "situations.toml")
+
+
 @lru_cache(maxsize=4)
 def _load_library(folder: Path) -> Library:
+    """Built, or the library built before from the same bytes of the same files and code (parsecache.built)."""
+    return built("library", [*(resource_path(n, folder) for n in LIBRARY_FILES), *core_sources()],
+                 lambda: _build_library(folder))
+
+
+def _build_library(folder: Path) -> Library:
     sp = load_resource("species.toml", folder)
     groups, species = _build_species(sp)
     parts, circuits, fresh = _build_apparatus(load_resource("apparatus.toml", folder))

@@ -1,4 +1,5 @@
 """Parsed TOML documents cached on disk as JSON; an entry is used only if it holds exactly the file's text.
+Also (``built``) a value built from files, used only if every one of those files has exactly the same bytes.
 
 Parsing species.toml with tomllib is most of the time ``load_library`` takes (about 25 of 37 ms);
 reading the same document back from JSON takes about 1 ms. Only the parse is cached: the schema check
@@ -6,6 +7,12 @@ still runs on every load, so a cache entry can never hold data the current code 
 edited file has a new hash. The cache is an optimisation only: any problem with it (no folder, a
 read-only disk, a damaged entry) falls back to parsing the file. ``$VENTSET_CACHE_DIR`` moves it;
 ``VENTSET_CACHE_DIR=off`` turns it off.
+
+``built`` keeps what a pure function of files returned (the checked library: ``ventset.library``), pickled
+beside a stamp of every file it depends on, the data files and all of the planning core's source: size and two
+checksums of each file's bytes. Any byte changed in a data file or in the code that checks and builds it gives
+a new stamp, so the value is built again; the file's name holds Python's version, so another Python never reads
+it. Reading the stamp (the source is about 0.9 MB) and the pickle takes about a third of building.
 """
 
 from __future__ import annotations
@@ -14,8 +21,12 @@ import json
 import os
 import sys
 import zlib
+from collections.abc import Callable, Iterable
+from functools import lru_cache
 from pathlib import Path
-from typing import Any
+from typing import Any, TypeVar
+
+T = TypeVar("T")
 
 CACHE_DIR_ENV = "VENTSET_CACHE_DIR"
 _VERSION = "1"  # bump when the JSON layout of an entry changes
@@ -75,3 +86,58 @@ def _store(entry: Path, text: str, doc: dict[str, Any]) -> None:
                 old.unlink(missing_ok=True)
     except (OSError, VentsetError):
         return
+
+
+def _stamp(files: Iterable[Path]) -> tuple[tuple[str, int, int, int], ...]:
+    out = []
+    for path in files:
+        raw = path.read_bytes()
+        out.append((str(path), len(raw), zlib.crc32(raw), zlib.adler32(raw)))
+    return tuple(out)
+
+
+@lru_cache(maxsize=1)
+def core_sources() -> tuple[Path, ...]:
+    """Every Python source file of ventset's planning core (the package without ``gui``), in a fixed order."""
+    root = Path(__file__).resolve().parent
+    found = []
+    for folder, dirs, names in os.walk(root):
+        dirs[:] = sorted(d for d in dirs if d not in ("gui", "__pycache__"))
+        found += [Path(folder) / n for n in sorted(names) if n.endswith(".py")]
+    return tuple(found)
+
+
+def built(name: str, files: Iterable[Path], build: Callable[[], T]) -> T:
+    """``build()``, or the value it gave before if each of ``files`` (what ``build`` reads, and the code it runs)
+    has the same bytes as then. Raises only what ``build`` raises; any problem with the cache builds anew."""
+    folder = cache_dir()
+    if folder is None:
+        return build()
+    try:
+        stamp = _stamp(files)
+    except OSError:
+        return build()
+    import pickle
+
+    # One entry per name (a library read from another folder replaces it), so the cache never grows.
+    entry = folder / f"{name}-v{_VERSION}-{sys.implementation.cache_tag}.pickle"
+    try:
+        with entry.open("rb") as f:
+            if pickle.load(f) == stamp:
+                return pickle.load(f)
+    except Exception:  # noqa: BLE001 - missing, damaged or from other code: any of them means build again
+        pass
+    value = build()
+    try:
+        data = pickle.dumps(stamp) + pickle.dumps(value, protocol=pickle.HIGHEST_PROTOCOL)
+    except Exception:  # noqa: BLE001 - a value that cannot be pickled is simply not kept
+        return value
+    from ventset.errors import VentsetError
+    from ventset.storage import atomic_write_bytes
+
+    try:
+        entry.parent.mkdir(parents=True, exist_ok=True)
+        atomic_write_bytes(entry, data)
+    except (OSError, VentsetError):
+        pass
+    return value
