@@ -73,7 +73,7 @@ def test_a_cached_text_is_exactly_its_compilation():
     assert methodcache.compiled(text) == compile(text, "<string>", "exec", dont_inherit=True)
 
 
-def _run(cache: str) -> list[str]:
+def _run(cache: str = "") -> list[str]:
     env = dict(os.environ, VENTSET_CACHE_DIR=cache)
     code = ("import ventset.model, ventset.plotdata, ventset.methodcache as m\n"
             "print(m._state['new'], len(m._compiled))\n"
@@ -85,8 +85,9 @@ def _run(cache: str) -> list[str]:
 
 
 @needs_311
-def test_the_second_process_compiles_nothing_and_plans_the_same(tmp_path):
-    first, second = _run(str(tmp_path)), _run(str(tmp_path))
+def test_the_second_process_compiles_nothing_and_plans_the_same():
+    methodcache.cache_file().unlink(missing_ok=True)
+    first, second = _run(), _run()
     assert int(first[0]) > 100 and int(second[0]) == 0  # every method came from the file
     assert int(second[1]) >= int(first[1]) and second[2] == first[2]
     off = _run("off")
@@ -94,10 +95,9 @@ def test_the_second_process_compiles_nothing_and_plans_the_same(tmp_path):
 
 
 @needs_311
-def test_a_damaged_cache_file_is_ignored_and_written_again(tmp_path):
-    _run(str(tmp_path))
-    (path,) = tmp_path.glob("dataclass-methods-*.marshal")
-    path.write_bytes(b"\x00not marshal data")
-    again = _run(str(tmp_path))
+def test_a_damaged_cache_file_is_ignored_and_written_again():
+    _run()
+    methodcache.cache_file().write_bytes(b"\x00not marshal data")
+    again = _run()
     assert int(again[0]) > 100
-    assert int(_run(str(tmp_path))[0]) == 0
+    assert int(_run()[0]) == 0

@@ -100,8 +100,11 @@ def _fresh(folder=None):
 
 
 def test_the_kept_library_equals_one_built_with_every_cache_off(cache, monkeypatch):
+    from ventset import pkgcache
+
     first, second = _fresh(), _fresh()  # the second comes from the kept entry
-    assert len(list(cache.glob("library-*.pickle"))) == 1
+    assert pkgcache.path("library", "pickle").is_file()
+    assert not list(cache.glob("*.pickle"))  # never in the cache folder a user may name (ventset.pkgcache)
     monkeypatch.setenv(CACHE_DIR_ENV, "off")
     reference = _fresh()  # parsed by tomllib and checked, nothing read from a cache
     assert second == first == reference
@@ -148,6 +151,10 @@ def test_a_changed_code_file_builds_again_and_a_damaged_entry_is_replaced(cache,
     assert built("probe", [data, code], build) == {"n": 1}  # kept
     code.write_text("A = 2\n", encoding="utf-8")             # same size, other bytes
     assert built("probe", [data, code], build) == {"n": 2}
-    next(cache.glob("probe-*.pickle")).write_bytes(b"\x80damaged")
+    from ventset import pkgcache
+
+    kept = pkgcache.path("probe", "pickle")
+    kept.write_bytes(b"\x80damaged")
     assert built("probe", [data, code], build) == {"n": 3}
     assert built("probe", [data, code], build) == {"n": 3}
+    kept.unlink()

@@ -12,6 +12,7 @@ from pathlib import Path
 
 import pytest
 
+import ventset
 from ventset import storage
 from ventset.errors import VentsetError
 
@@ -239,12 +240,36 @@ def _unsafe_calls(source: str, where: str) -> list[str]:
     return problems
 
 
+# The two exceptions, each to the letter: the caches kept beside ventset's own byte code (ventset/pkgcache.py,
+# which may read a pickle or marshal file only from the package's __pycache__ folder), and the dataclass method
+# cache (ventset/methodcache.py), which compiles and runs the text Python's dataclasses module wrote, as that
+# module itself does.
+ALLOWED = {"ventset/pkgcache.py": ("import marshal", "import pickle", "calls marshal.loads()", "calls pickle.loads()"),
+           "ventset/methodcache.py": ("calls compile()", "calls exec()")}
+
+
 def test_no_unsafe_deserialisation_anywhere_in_the_package():
-    """No pickle, shelve, marshal, yaml, eval or exec in ventset/ (the files a user opens are plain JSON/TOML)."""
+    """No pickle, shelve, marshal, yaml, eval or exec in ventset/ (the files a user opens are plain JSON/TOML),
+    but for the two narrow exceptions above."""
     problems = []
     for path in sorted((ROOT / "ventset").rglob("*.py")):
-        problems += _unsafe_calls(path.read_text(encoding="utf-8"), str(path.relative_to(ROOT)))
+        where = str(path.relative_to(ROOT))
+        problems += [p for p in _unsafe_calls(path.read_text(encoding="utf-8"), where)
+                     if not any(p.endswith(ok) for ok in ALLOWED.get(where, ()))]
     assert problems == []
+
+
+def test_the_caches_that_hold_objects_live_only_beside_the_package_byte_code(tmp_path, monkeypatch):
+    from ventset import methodcache, pkgcache
+
+    bytecode = Path(ventset.__file__).resolve().parent / "__pycache__"
+    for chosen in (str(tmp_path), "", str(tmp_path / "shared")):  # a cache folder a user names never moves them
+        monkeypatch.setenv("VENTSET_CACHE_DIR", chosen)
+        assert pkgcache.folder() == bytecode
+        assert methodcache.cache_file().parent == bytecode
+        assert pkgcache.path("library", "pickle").parent == bytecode
+    monkeypatch.setenv("VENTSET_CACHE_DIR", "off")
+    assert pkgcache.folder() is None and methodcache.cache_file() is None
 
 
 def test_the_safety_scan_would_catch_a_pickle_load():

@@ -5,20 +5,23 @@ On Python 3.11 the ``dataclasses`` module writes each generated method (``__init
 about 40 ms for ventset's 86 classes, a tenth of the window's start-up. ``install`` gives that module an
 ``exec`` that, for classes made in ventset's own modules only, looks the text up in a cache of compiled code
 before compiling it. An entry is keyed by the whole text, so it can only ever be that text's compilation;
-the file is per Python version (``sys.implementation.cache_tag``), is read once, and is written at exit when
-something new was compiled. Any problem with it (no folder, a damaged file, a read-only disk) leaves Python's
-own compilation in place. ``VENTSET_CACHE_DIR=off`` turns it off with the parse cache (ventset.parsecache).
+the file is per Python version, is read once, and is written at exit when something new was compiled. It is
+kept beside ventset's own byte code (ventset.pkgcache, which says why only there). Any problem with it (a
+damaged file, a read-only folder) leaves Python's own compilation in place; ``VENTSET_CACHE_DIR=off`` turns it
+off.
 """
 
 from __future__ import annotations
 
 import atexit
 import builtins
-import marshal
 import sys
 from types import CodeType
 
+from ventset import pkgcache
+
 _OWN_PREFIX = "ventset"  # classes made in these modules use the cache; every other dataclass is left alone
+NAME = "dataclass-methods"
 KEEP_AT_MOST = 4000  # entries; past that, only what this process used is kept (old texts of edited classes go)
 _compiled: dict[str, CodeType] = {}
 _used: set[str] = set()
@@ -26,11 +29,8 @@ _state = {"new": 0, "installed": False}
 
 
 def cache_file():
-    """The cache's file, or None when the cache folder is turned off."""
-    from ventset.parsecache import cache_dir
-
-    folder = cache_dir()
-    return folder / f"dataclass-methods-{sys.implementation.cache_tag}.marshal" if folder else None
+    """The cache's file, or None when caches are turned off."""
+    return pkgcache.path(NAME, "marshal")
 
 
 def compiled(source: str) -> CodeType:
@@ -52,30 +52,16 @@ def _exec(source, globals=None, locals=None, /):  # noqa: A002 - exec's own para
 
 
 def _read() -> None:
-    path = cache_file()
-    if path is None:
-        return
-    try:
-        data = marshal.loads(path.read_bytes())
-    except (OSError, EOFError, ValueError, TypeError):
-        return
-    if isinstance(data, dict):
-        _compiled.update((k, v) for k, v in data.items() if isinstance(k, str) and isinstance(v, CodeType))
+    table = pkgcache.load_code(NAME)
+    _compiled.update((k, v) for k, v in table.items() if isinstance(k, str) and isinstance(v, CodeType))
 
 
 def save() -> bool:
     """Write the cache when something new was compiled; True when written. Never raises."""
-    path = cache_file()
-    if path is None or not _state["new"]:
+    if not _state["new"]:
         return False
-    from ventset.errors import VentsetError
-    from ventset.storage import atomic_write_bytes
-
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        keep = _compiled if len(_compiled) <= KEEP_AT_MOST else {k: _compiled[k] for k in _used}
-        atomic_write_bytes(path, marshal.dumps(dict(keep)))
-    except (OSError, ValueError, VentsetError):
+    keep = _compiled if len(_compiled) <= KEEP_AT_MOST else {k: _compiled[k] for k in _used}
+    if not pkgcache.save_code(NAME, dict(keep)):
         return False
     _state["new"] = 0
     return True

@@ -8,11 +8,12 @@ edited file has a new hash. The cache is an optimisation only: any problem with 
 read-only disk, a damaged entry) falls back to parsing the file. ``$VENTSET_CACHE_DIR`` moves it;
 ``VENTSET_CACHE_DIR=off`` turns it off.
 
-``built`` keeps what a pure function of files returned (the checked library: ``ventset.library``), pickled
-beside a stamp of every file it depends on, the data files and all of the planning core's source: size and two
-checksums of each file's bytes. Any byte changed in a data file or in the code that checks and builds it gives
-a new stamp, so the value is built again; the file's name holds Python's version, so another Python never reads
-it. Reading the stamp (the source is about 0.9 MB) and the pickle takes about a third of building.
+``built`` keeps what a pure function of files returned (the checked library: ``ventset.library``) with a stamp
+of every file it depends on, the data files and all of the planning core's source: size and two checksums of
+each file's bytes. Any byte changed in a data file or in the code that checks and builds it gives a new stamp,
+so the value is built again. It is a pickle, so it is kept beside ventset's byte code (ventset.pkgcache), not
+in the folder above. Reading the stamp (the source is about 0.9 MB) and the value takes about a quarter of
+building.
 """
 
 from __future__ import annotations
@@ -109,35 +110,19 @@ def core_sources() -> tuple[Path, ...]:
 
 def built(name: str, files: Iterable[Path], build: Callable[[], T]) -> T:
     """``build()``, or the value it gave before if each of ``files`` (what ``build`` reads, and the code it runs)
-    has the same bytes as then. Raises only what ``build`` raises; any problem with the cache builds anew."""
-    folder = cache_dir()
-    if folder is None:
+    has the same bytes as then. Raises only what ``build`` raises; any problem with the cache builds anew. The
+    value is kept beside ventset's byte code, never in the cache folder above (ventset.pkgcache says why)."""
+    from ventset import pkgcache
+
+    if pkgcache.folder() is None:
         return build()
     try:
         stamp = _stamp(files)
     except OSError:
         return build()
-    import pickle
-
-    # One entry per name (a library read from another folder replaces it), so the cache never grows.
-    entry = folder / f"{name}-v{_VERSION}-{sys.implementation.cache_tag}.pickle"
-    try:
-        with entry.open("rb") as f:
-            if pickle.load(f) == stamp:
-                return pickle.load(f)
-    except Exception:  # noqa: BLE001 - missing, damaged or from other code: any of them means build again
-        pass
-    value = build()
-    try:
-        data = pickle.dumps(stamp) + pickle.dumps(value, protocol=pickle.HIGHEST_PROTOCOL)
-    except Exception:  # noqa: BLE001 - a value that cannot be pickled is simply not kept
+    found, value = pkgcache.load_value(name, stamp)
+    if found:
         return value
-    from ventset.errors import VentsetError
-    from ventset.storage import atomic_write_bytes
-
-    try:
-        entry.parent.mkdir(parents=True, exist_ok=True)
-        atomic_write_bytes(entry, data)
-    except (OSError, VentsetError):
-        pass
+    value = build()
+    pkgcache.save_value(name, stamp, value)
     return value

@@ -16,6 +16,7 @@ reading order, so panels added later, in any order, still fall in place.
 from __future__ import annotations
 
 from collections.abc import Callable
+from functools import lru_cache
 
 from PySide6.QtCore import QEvent, QObject, Qt
 from PySide6.QtGui import QAction, QKeySequence, QPainter, QPen, QTextDocumentFragment
@@ -55,8 +56,10 @@ INPUTS = (QLineEdit, QComboBox, QAbstractButton, QAbstractItemView, QAbstractSpi
 CONTAINERS = ("form-scroll", "plots-scroll")
 
 
+@lru_cache(maxsize=1024)
 def plain_text(tip: str) -> str:
-    """A tooltip (often a little HTML) as the plain sentence a screen reader should say."""
+    """A tooltip (often a little HTML) as the plain sentence a screen reader should say (remembered: a form row's
+    label, box and unit share one tooltip, and the window is named again after its panels are added)."""
     if not tip:
         return ""
     return " ".join(QTextDocumentFragment.fromHtml(tip).toPlainText().split())
