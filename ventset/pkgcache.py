@@ -16,7 +16,6 @@ from __future__ import annotations
 
 import marshal
 import os
-import pickle
 import sys
 from pathlib import Path
 from typing import Any
@@ -87,6 +86,8 @@ def load_value(name: str, stamp: object) -> tuple[bool, Any]:
     raw = _read(name, "pickle")
     if raw is None:
         return False, None
+    import pickle  # here, not at the top: its import costs start-up a millisecond or two
+
     try:
         kept_stamp, value = pickle.loads(raw)
     except Exception:  # noqa: BLE001 - damaged, or made by other code: either way, not used
@@ -96,6 +97,8 @@ def load_value(name: str, stamp: object) -> tuple[bool, Any]:
 
 def save_value(name: str, stamp: object, value: object) -> bool:
     """Keep ``value`` with its ``stamp`` under ``name``; True when written. Never raises."""
+    import pickle
+
     try:
         data = pickle.dumps((stamp, value), protocol=pickle.HIGHEST_PROTOCOL)
     except Exception:  # noqa: BLE001 - a value that cannot be pickled is simply not kept
