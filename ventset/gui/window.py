@@ -128,6 +128,13 @@ class MainWindow(QMainWindow):
         from ventset.gui import access
 
         access.apply(self)
+        self._fit_middle()
+
+    def _fit_middle(self) -> None:
+        scroll, middle, tiles = self._middle
+        bar = self.style().pixelMetric(self.style().PixelMetric.PM_ScrollBarExtent)
+        margins = middle.layout().contentsMargins()
+        scroll.setMinimumWidth(max(tiles + margins.left() + margins.right(), middle.minimumSizeHint().width()) + bar)
 
     # ------------------------------------------------------------------ layout
     def _build_central(self) -> None:
@@ -205,8 +212,10 @@ class MainWindow(QMainWindow):
         self.tabs.addTab(self.derived, "Derived values")
         self.tabs.addTab(self.assumptions, "Assumptions and sources")
         mid.addWidget(self.tabs, 1)
-        bar = self.style().pixelMetric(self.style().PixelMetric.PM_ScrollBarExtent)
-        middle_scroll.setMinimumWidth(middle.minimumSizeHint().width() + bar)  # never narrower than its content
+        # Never narrower than its content: the tiles as first placed (four columns; measured now, before the first
+        # plan reflows them) and the rest once the theme and the plan are in (_fit_middle: measuring the tabs
+        # and their plots now costs start-up some 20 ms, as all of it is measured again when shown).
+        self._middle = (middle_scroll, middle, self.settings_panel.minimumSizeHint().width())
 
         self.cautions = CautionsPanel(self.splitter)
         self.splitter.setStretchFactor(0, 0)
