@@ -22,6 +22,7 @@ from PySide6.QtWidgets import (  # noqa: E402
     QComboBox,
     QLineEdit,
     QTableWidget,
+    QWidget,
 )
 
 from tests.gui.conftest import settle  # noqa: E402
@@ -239,3 +240,32 @@ def test_high_contrast_gives_every_input_a_visible_border(qtbot, full_window):
                    w.form.parts_editor.own_volume):
         edge, inside = _edge_lightness(widget)
         assert edge > 200 and inside < 60, (widget.objectName() or widget.accessibleName(), edge, inside)
+
+
+def test_the_programs_window_is_named_and_ordered_as_one_given_its_panels_afterwards(qtbot, tmp_path, monkeypatch):
+    """MainWindow(extensions=True), the program's window, names its inputs and threads the Tab order once; the
+    result must be what the two passes give (the window made first, its panels added after)."""
+    monkeypatch.setenv(storage.DATA_DIR_ENV, str(tmp_path / "data"))
+    from ventset.gui import case_ui
+    from ventset.gui.settings import open_settings
+    from ventset.gui.window import MainWindow, install_extensions
+
+    original = case_ui.install
+    monkeypatch.setattr(case_ui, "install", lambda window, **kw: original(window, offer_recovery=False))
+
+    def state(w):
+        widgets = [c for c in w.findChildren(QWidget) if c.isWidgetType()]
+        named = [(type(c).__name__, c.objectName(), c.accessibleName(), c.accessibleDescription(),
+                  c.focusPolicy()) for c in widgets]
+        chain, c = [], w.form.rows["mass"].edit
+        for _ in range(60):
+            chain.append((type(c).__name__, c.objectName(), c.accessibleName()))
+            c = c.nextInFocusChain()
+        return named, chain
+
+    two = MainWindow(open_settings())
+    qtbot.addWidget(two)
+    install_extensions(two)
+    one = MainWindow(open_settings(), extensions=True)
+    qtbot.addWidget(one)
+    assert state(one) == state(two)

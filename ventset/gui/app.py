@@ -94,10 +94,9 @@ def run(argv: list[str] | None = None, case_path: str | None = None) -> int:
         if AcknowledgementDialog().exec() != QDialog.DialogCode.Accepted:
             return 0
         prefs.set_acknowledged(settings)
-    from ventset.gui.window import MainWindow, install_extensions
+    from ventset.gui.window import MainWindow
 
-    window = MainWindow(settings)
-    install_extensions(window)
+    window = MainWindow(settings, extensions=True)
     window.show()
     QTimer.singleShot(0, after_first_frame)
     opened = _open_case(window, case_path, smoke) if case_path else None

@@ -463,7 +463,18 @@ class DerivedPanel(QScrollArea):
         self.setWidget(body)
         self.body = body
         self.values: dict[str, tuple[QLabel, QLabel, QLabel]] = {}
+        self.part_rows: list[tuple[QLabel, QLabel, QLabel]] = []
         self._row = 0
+        self._built = False  # the rows are made when the tab is first shown (hidden at start: 4 ms of start-up)
+
+    def showEvent(self, e) -> None:  # noqa: N802 - Qt override; sent before the tab is first painted
+        self._build()
+        super().showEvent(e)
+
+    def _build(self) -> None:
+        if self._built:
+            return
+        self._built = True
         layout = (
             ("Metabolism", [("metabolic_rate", "Metabolic rate"), ("vo2", "O2 consumption (VO2)"),
                             ("vco2", "CO2 output (VCO2)"), ("rq", "Respiratory quotient")]),
@@ -476,7 +487,6 @@ class DerivedPanel(QScrollArea):
             self._section(title)
             for key, name in items:
                 self._value_row(key, name)
-        self.part_rows: list[tuple[QLabel, QLabel, QLabel]] = []
         self._parts_at = self._row
         self._row += 40  # room for part rows
         for key, name in (("tube", "Tube beyond the incisors"), ("alveolar_ds", "Alveolar dead space"),
@@ -533,6 +543,7 @@ class DerivedPanel(QScrollArea):
 
     def show_plan(self, plan: Plan, gas_unit: str, mass_unit: str = "kg") -> None:
         """Every derived value as the presentation layer writes it (ventset.present.rows.derived_sections)."""
+        self._build()
         parts: list[Row] = []
         for _title, rows in derived_sections(plan, reader_units(gas_unit, mass_unit)):
             for row in rows:

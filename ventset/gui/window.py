@@ -56,8 +56,9 @@ UNDO_STEPS = 200  # undo history kept (the oldest steps are dropped): bounded me
 EXTENSIONS: tuple[str, ...] = ("ventset.gui.case_ui", "ventset.gui.ondemand", "ventset.gui.compare_menu")
 
 
-def install_extensions(window: MainWindow) -> list[str]:
-    """Install every panel in EXTENSIONS; returns the names installed."""
+def install_extensions(window: MainWindow, *, name_widgets: bool = True) -> list[str]:
+    """Install every panel in EXTENSIONS; returns the names installed. ``name_widgets``: then give the added
+    panels' inputs their names and Tab order (access.apply; MainWindow(extensions=True) does it once, after)."""
     import importlib
     import traceback
 
@@ -72,7 +73,8 @@ def install_extensions(window: MainWindow) -> list[str]:
             traceback.print_exc()
             continue
         done.append(name)
-    access.apply(window)  # the added panels' inputs named and threaded into the Tab order
+    if name_widgets:
+        access.apply(window)  # the added panels' inputs named and threaded into the Tab order
     return done
 
 
@@ -89,7 +91,9 @@ class MainWindow(QMainWindow):
     theme_changed = Signal(object)
 
     def __init__(self, settings=None, library: Library | None = None, request: Request | None = None,
-                 parent: QWidget | None = None) -> None:
+                 parent: QWidget | None = None, *, extensions: bool = False) -> None:
+        """``extensions``: install the panels in EXTENSIONS too (the program's window), before the one pass that
+        names every input and sets the Tab order (which otherwise runs here and again in install_extensions)."""
         super().__init__(parent)
         self.settings = settings if settings is not None else prefs.open_settings()
         self.library = library or load_library()
@@ -125,10 +129,12 @@ class MainWindow(QMainWindow):
         self.controller.set_request(request if request is not None else demo_request(self.library))
         self.controller.flush()
         self.undo.clear()
+        self._fit_middle()
+        if extensions:
+            install_extensions(self, name_widgets=False)
         from ventset.gui import access
 
         access.apply(self)
-        self._fit_middle()
 
     def _fit_middle(self) -> None:
         scroll, middle, tiles = self._middle
