@@ -57,6 +57,7 @@ def test_a_class_made_through_the_cache_is_the_class_dataclasses_makes(monkeypat
     ours, theirs = _make("ventset.fake_module", monkeypatch), _make("elsewhere", monkeypatch)
     assert _from_cache(ours.__init__) and _from_cache(ours.__eq__)
     assert not _from_cache(theirs.__init__)  # a class outside ventset is compiled by Python as always
+    assert not _from_cache(_make("ventsetlike", monkeypatch).__init__)  # a package merely named alike, too
     for name in ("__init__", "__repr__", "__eq__", "__hash__", "__setattr__", "__delattr__"):
         assert getattr(ours, name).__code__.co_code == getattr(theirs, name).__code__.co_code, name
     a, b = ours("vd", 12.5), theirs("vd", 12.5)

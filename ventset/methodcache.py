@@ -20,7 +20,7 @@ from types import CodeType
 
 from ventset import pkgcache
 
-_OWN_PREFIX = "ventset"  # classes made in these modules use the cache; every other dataclass is left alone
+_OWN = "ventset"  # classes made in this package's modules use the cache; every other dataclass is left alone
 NAME = "dataclass-methods"
 KEEP_AT_MOST = 4000  # entries; past that, only what this process used is kept (old texts of edited classes go)
 _compiled: dict[str, CodeType] = {}
@@ -45,8 +45,8 @@ def compiled(source: str) -> CodeType:
 
 
 def _exec(source, globals=None, locals=None, /):  # noqa: A002 - exec's own parameter names
-    if isinstance(source, str) and isinstance(globals, dict) \
-            and str(globals.get("__name__", "")).startswith(_OWN_PREFIX):
+    module = str(globals.get("__name__", "")) if isinstance(globals, dict) else ""
+    if isinstance(source, str) and (module == _OWN or module.startswith(_OWN + ".")):
         source = compiled(source)
     return builtins.exec(source, globals, locals)
 
