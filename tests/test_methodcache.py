@@ -76,6 +76,7 @@ def test_a_cached_text_is_exactly_its_compilation():
 
 def _run(cache: str = "") -> list[str]:
     env = dict(os.environ, VENTSET_CACHE_DIR=cache)
+    env.pop("PYTHONDONTWRITEBYTECODE", None)  # which keeps the cache from being written (ventset.pkgcache)
     code = ("import ventset.model, ventset.plotdata, ventset.methodcache as m\n"
             "print(m._state['new'], len(m._compiled))\n"
             "from ventset.planner import plan\nfrom ventset.demo import demo_request\n"

@@ -16,6 +16,7 @@ RAW = resource_path("species.toml").read_bytes()
 def cache(tmp_path, monkeypatch):
     folder = tmp_path / "cache"
     monkeypatch.setenv(CACHE_DIR_ENV, str(folder))
+    monkeypatch.setattr("sys.dont_write_bytecode", False)  # else the library's entry is not kept (ventset.pkgcache)
     return folder
 
 

@@ -277,3 +277,17 @@ def test_the_safety_scan_would_catch_a_pickle_load():
     planted = "import pickle\nfrom yaml import load\nx = pickle.loads(b'')\neval('1')\nbuiltins.exec('1')\n"
     assert len(_unsafe_calls(planted, "planted.py")) == 5
     assert _unsafe_calls("import re\nre.compile('x')\ndialog.exec()\n", "harmless.py") == []
+
+
+def test_told_not_to_write_byte_code_the_object_caches_are_not_written(monkeypatch):
+    """Python's own switch (sys.dont_write_bytecode, set by PYTHONDONTWRITEBYTECODE or -B) also keeps these caches
+    from being written beside the byte code; reading what is there still works."""
+    from ventset import pkgcache
+
+    monkeypatch.setattr(sys, "dont_write_bytecode", True)
+    assert pkgcache.save_value("probe-dont-write", (1,), {"x": 1}) is False
+    assert not pkgcache.path("probe-dont-write", "pickle").exists()
+    monkeypatch.setattr(sys, "dont_write_bytecode", False)
+    assert pkgcache.save_value("probe-dont-write", (1,), {"x": 1}) is True
+    assert pkgcache.load_value("probe-dont-write", (1,)) == (True, {"x": 1})
+    pkgcache.path("probe-dont-write", "pickle").unlink()

@@ -7,7 +7,8 @@ pickle or ``marshal`` can give back, so they live where Python already keeps ven
 package's ``__pycache__`` folder, next to the ``.pyc`` files Python itself loads and runs without asking):
 whoever can write there can already change what ventset runs, so nothing new is trusted. ``VENTSET_CACHE_DIR``
 (which may name any folder, even a shared one) never moves them; ``VENTSET_CACHE_DIR=off`` turns them off. Where
-the folder cannot be written (a system-wide installation) they are simply not kept.
+the folder cannot be written (a system-wide installation), or Python is told not to write byte code
+(``PYTHONDONTWRITEBYTECODE``, ``-B``), they are simply not kept.
 
 This is the only module that may import ``pickle`` or ``marshal`` (the scan in tests/test_storage.py).
 """
@@ -48,7 +49,7 @@ def _read(name: str, suffix: str) -> bytes | None:
 
 def _write(name: str, suffix: str, data: bytes) -> bool:
     p = path(name, suffix)
-    if p is None:
+    if p is None or sys.dont_write_bytecode:  # told not to write byte code (PYTHONDONTWRITEBYTECODE, -B): nor this
         return False
     from ventset.errors import VentsetError
     from ventset.storage import atomic_write_bytes
