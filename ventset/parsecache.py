@@ -27,17 +27,19 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Any, TypeVar
 
+from ventset import pkgcache
+from ventset.pkgcache import CACHE_DIR_ENV, turned_off
+
 T = TypeVar("T")
 
-CACHE_DIR_ENV = "VENTSET_CACHE_DIR"
 _VERSION = "1"  # bump when the JSON layout of an entry changes
 
 
 def cache_dir() -> Path | None:
     """$VENTSET_CACHE_DIR, else the platform's user cache folder for ventset; None when turned off."""
-    override = os.environ.get(CACHE_DIR_ENV, "").strip()
-    if override.lower() in ("off", "0", "no", "none"):
+    if turned_off():
         return None
+    override = os.environ.get(CACHE_DIR_ENV, "").strip()
     if override:
         return Path(override)
     if sys.platform == "win32":
@@ -112,8 +114,6 @@ def built(name: str, files: Iterable[Path], build: Callable[[], T]) -> T:
     """``build()``, or the value it gave before if each of ``files`` (what ``build`` reads, and the code it runs)
     has the same bytes as then. Raises only what ``build`` raises; any problem with the cache builds anew. The
     value is kept beside ventset's byte code, never in the cache folder above (ventset.pkgcache says why)."""
-    from ventset import pkgcache
-
     if pkgcache.folder() is None:
         return build()
     try:

@@ -25,11 +25,17 @@ PACKAGE_DIR = Path(__file__).resolve().parent
 _TAG = sys.implementation.cache_tag or "python"  # as Python names its .pyc files: another Python never reads them
 
 
+CACHE_DIR_ENV = "VENTSET_CACHE_DIR"  # where the parse cache goes (ventset.parsecache); "off" turns every cache off
+
+
+def turned_off() -> bool:
+    """True when ``VENTSET_CACHE_DIR`` says off ('off', '0', 'no', 'none'): no cache of any kind is used."""
+    return os.environ.get(CACHE_DIR_ENV, "").strip().lower() in ("off", "0", "no", "none")
+
+
 def folder() -> Path | None:
-    """The package's byte-code folder, or None when caches are turned off (``VENTSET_CACHE_DIR=off``)."""
-    if os.environ.get("VENTSET_CACHE_DIR", "").strip().lower() in ("off", "0", "no", "none"):
-        return None
-    return PACKAGE_DIR / "__pycache__"
+    """The package's byte-code folder, or None when caches are turned off."""
+    return None if turned_off() else PACKAGE_DIR / "__pycache__"
 
 
 def path(name: str, suffix: str) -> Path | None:
