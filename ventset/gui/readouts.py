@@ -24,6 +24,7 @@ from PySide6.QtWidgets import (
 
 from ventset.errors import InputError, one_line
 from ventset.glossary import tooltip
+from ventset.gui.scrollbar import RememberedScrollBar
 from ventset.gui.text import Reading, Text, plain, plain_tip
 from ventset.gui.theme import DAY, SEVERITY_WORD, Theme, scaled_font, severity_colours, severity_pixmap
 from ventset.model import STANDING_NOTICE, Plan
@@ -391,6 +392,8 @@ class CautionsPanel(QFrame):
         self.scroll = QScrollArea(self)
         self.scroll.setWidgetResizable(True)
         self.scroll.setFrameShape(QFrame.Shape.NoFrame)
+        # Redrawn on most edits, as the list's height changes: shown from remembered images (gui/scrollbar.py)
+        self.scroll.setVerticalScrollBar(RememberedScrollBar(Qt.Orientation.Vertical, self.scroll))
         self.body = QWidget(self.scroll)
         self.list = QVBoxLayout(self.body)
         self.list.setContentsMargins(0, 0, 0, 0)
