@@ -10,8 +10,10 @@ stacking), so the pixels are the same.
 from __future__ import annotations
 
 import pyqtgraph as pg
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QEvent, Qt
 from PySide6.QtWidgets import QGraphicsGridLayout, QGraphicsItem, QSizePolicy, QWidget
+
+from ventset.gui.marker import Marker
 
 # (row, column): PlotItem's cells without its title row, top axis row and right axis column.
 _CELLS = {"left": (0, 0), "bottom": (1, 1)}
@@ -107,6 +109,14 @@ class PlotView(pg.GraphicsView):
         self.area = PlotArea()
         self.setCentralItem(self.area)
         self.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+
+    def event(self, e: QEvent) -> bool:
+        if e.type() in (QEvent.Type.Show, QEvent.Type.DevicePixelRatioChange):  # shown, or moved to a new screen
+            ratio = self.devicePixelRatioF()
+            for item in self.area.vb.addedItems:
+                if isinstance(item, Marker):
+                    item.set_ratio(ratio)
+        return super().event(e)
 
     def getPlotItem(self) -> PlotArea:  # noqa: N802 - PlotWidget's name
         return self.area

@@ -24,6 +24,7 @@ from PySide6.QtWidgets import (
 )
 
 from ventset import plotdata
+from ventset.gui.marker import Marker
 from ventset.gui.plotarea import PlotArea, PlotView
 from ventset.gui.text import Text, plain
 from ventset.gui.theme import DAY, Theme, scaled_font
@@ -478,9 +479,9 @@ class SettingsMapPlot(PlotCard):
         self.plot.addItem(self.trap_line)
         self.trap_label = _text_item(DAY.plot_fg, anchor=(0, 1))
         self.plot.addItem(self.trap_label)
-        self.point = pg.ScatterPlotItem(size=self.fontMetrics().height() * 1.1, symbol="o")
+        self.point = Marker("o", self.fontMetrics().height() * 1.1)
         self.plot.addItem(self.point)
-        self.probe = pg.ScatterPlotItem(size=self.fontMetrics().height() * 1.1, symbol="+")
+        self.probe = Marker("+", self.fontMetrics().height() * 1.1)
         self.plot.addItem(self.probe)
         self.readout = Text("", self, wrap=True, name="map-readout", lines=2)
         self.add_plot(self.widget)
@@ -767,7 +768,7 @@ class SensitivityPlot(PlotCard):
         self.plot.addItem(self.curve)
         self.now_line = pg.InfiniteLine(angle=90, movable=False)
         self.plot.addItem(self.now_line)
-        self.now = pg.ScatterPlotItem(size=self.fontMetrics().height() * 0.9, symbol="o")
+        self.now = Marker("o", self.fontMetrics().height() * 0.9)
         self.plot.addItem(self.now)
         self.now_label = _text_item(DAY.plot_fg, anchor=(1.15, 0.5))
         self.plot.addItem(self.now_label)
