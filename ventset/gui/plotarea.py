@@ -13,7 +13,7 @@ import pyqtgraph as pg
 from PySide6.QtCore import QEvent, Qt
 from PySide6.QtWidgets import QGraphicsGridLayout, QGraphicsItem, QSizePolicy, QWidget
 
-from ventset.gui.marker import Marker
+from ventset.gui.plotitems import Marker
 
 # (row, column): PlotItem's cells without its title row, top axis row and right axis column.
 _CELLS = {"left": (0, 0), "bottom": (1, 1)}

@@ -24,8 +24,8 @@ from PySide6.QtWidgets import (
 )
 
 from ventset import plotdata
-from ventset.gui.marker import Marker
 from ventset.gui.plotarea import PlotArea, PlotView
+from ventset.gui.plotitems import Curve, Marker
 from ventset.gui.text import Text, plain
 from ventset.gui.theme import DAY, Theme, scaled_font
 from ventset.model import Plan
@@ -449,8 +449,8 @@ class SettingsMapPlot(PlotCard):
         self.image = pg.ImageItem(axisOrder="row-major")
         self.plot.addItem(self.image)
         # All lines of equal PaCO2 but the target in one item (NaN between them), the target in another.
-        self.iso_other = pg.PlotCurveItem(connect="finite")
-        self.iso_target = pg.PlotCurveItem(connect="finite")
+        self.iso_other = Curve(connect="finite")
+        self.iso_target = Curve(connect="finite")
         self.iso = [self.iso_other, self.iso_target]
         for c in self.iso:
             self.plot.addItem(c)
@@ -459,11 +459,11 @@ class SettingsMapPlot(PlotCard):
             t = _text_item(DAY.plot_fg, anchor=(1, 1))
             self.plot.addItem(t)
             self.iso_labels.append(t)
-        self.box = pg.PlotCurveItem()
+        self.box = Curve()
         self.plot.addItem(self.box)
         self.box_label = _text_item(DAY.plot_fg, anchor=(0, 1))
         self.plot.addItem(self.box_label)
-        self.peak_curve = pg.PlotCurveItem(connect="finite")
+        self.peak_curve = Curve(connect="finite")
         self.plot.addItem(self.peak_curve)
         self.peak_label = _text_item(DAY.plot_fg, anchor=(0, 0), angle=90)
         self.plot.addItem(self.peak_label)
@@ -677,7 +677,7 @@ class WaveformPlot(PlotCard):
         fm = self.fontMetrics()
         for p in self.plots:  # equal axis widths keep the three time axes aligned
             p.getAxis("left").setWidth(fm.height() * 2 + fm.horizontalAdvance("00 limit"))
-        self.curves = [pg.PlotCurveItem() for _ in self.plots]
+        self.curves = [Curve() for _ in self.plots]
         for p, c in zip(self.plots, self.curves, strict=True):
             p.addItem(c)
         self.limit_line = pg.InfiniteLine(angle=0, movable=False)
@@ -764,7 +764,7 @@ class SensitivityPlot(PlotCard):
         self.plot.setLabel("bottom", "Apparatus + tube dead space (mL)")
         self.band = pg.LinearRegionItem(orientation="horizontal", movable=False)
         self.plot.addItem(self.band)
-        self.curve = pg.PlotCurveItem(connect="finite")
+        self.curve = Curve(connect="finite")
         self.plot.addItem(self.curve)
         self.now_line = pg.InfiniteLine(angle=90, movable=False)
         self.plot.addItem(self.now_line)

@@ -1,17 +1,26 @@
-"""One symbol at one point of a plot, drawn by Qt without Python in the paint.
+"""Plot items that draw what pyqtgraph's draw, with less Python in each paint (every edit repaints the plots).
 
-pyqtgraph's ScatterPlotItem draws any number of points; for one point each paint still runs its Python (the
-view's mask, the mapping of every point, the fragment table): about 0.2 ms a plot on the build machine, and as
-much again to set its data. ``Marker`` draws the image pyqtgraph renders for the same symbol, size, pen and brush
-(``renderSymbol``) centred where a ScatterPlotItem would centre it: a QGraphicsPixmapItem that ignores the view's
-scaling, so Qt paints it in C++. tests/gui/test_marker.py compares the pixels with a ScatterPlotItem's.
+``Marker``: one symbol at one point. pyqtgraph's ScatterPlotItem draws any number of points; for one point each
+paint still runs its Python (the view's mask, the mapping of every point, the fragment table): about 0.2 ms a
+plot on the build machine, and as much again to set its data. ``Marker`` draws the image pyqtgraph renders for
+the same symbol, size, pen and brush (``renderSymbol``) centred where a ScatterPlotItem would centre it: a
+QGraphicsPixmapItem that ignores the view's scaling, so Qt paints it in C++.
+
+``Curve``: pyqtgraph's PlotCurveItem whose paint goes straight to the one antialiased stroke the plan's plots
+use (the same calls PlotCurveItem makes for it); anything else (a fill, a shadow pen, an export, OpenGL) is
+painted by PlotCurveItem itself.
+
+tests/gui/test_plotitems.py compares the pixels with pyqtgraph's own items.
 """
 
 from __future__ import annotations
 
 import numpy as np
+import pyqtgraph as pg
+from pyqtgraph.graphicsItems.PlotCurveItem import OpenGLHelpers
 from pyqtgraph.graphicsItems.ScatterPlotItem import renderSymbol
-from PySide6.QtGui import QBrush, QPen, QPixmap
+from PySide6.QtCore import Qt
+from PySide6.QtGui import QBrush, QPainter, QPen, QPixmap
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsPixmapItem
 
 
@@ -58,3 +67,23 @@ class Marker(QGraphicsPixmapItem):
         self.setPixmap(pixmap)
         side = image.width() / self._ratio  # centred on the point, as drawPixmapFragments centres a fragment
         self.setOffset(-0.5 * side, -0.5 * side)
+
+
+class Curve(pg.PlotCurveItem):
+    """A PlotCurveItem painted as one antialiased stroke of its path when that is all it is to draw."""
+
+    def paint(self, p: QPainter, opt, widget) -> None:
+        o = self.opts
+        if (self._exportOpts is not False or o["fillLevel"] is not None or o["shadowPen"] is not None
+                or o["compositionMode"] is not None or o["segmentedLineMode"] == "on" or not o["antialias"]
+                or isinstance(widget, OpenGLHelpers.GraphicsViewGLWidget)):
+            super().paint(p, opt, widget)
+            return
+        if self.xData is None or len(self.xData) == 0:
+            return
+        pen = o["pen"]
+        if pen is None or pen.style() == Qt.PenStyle.NoPen:
+            return
+        p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        p.setPen(pen)
+        p.drawPath(self.getPath())
