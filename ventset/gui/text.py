@@ -20,6 +20,7 @@ from PySide6.QtGui import QColor, QFont, QFontMetrics, QPainter, QTextLayout, QT
 from PySide6.QtWidgets import QLabel, QSizePolicy, QWidget
 
 _BOLD = re.compile(r"<b>(.*?)</b>", re.S)
+_LAYOUTS_KEPT = 4  # layouts a Text keeps: the widths a layout pass asks about, and the one it is painted at
 
 
 def plain(label: QLabel) -> QLabel:
@@ -59,7 +60,7 @@ class Text(QWidget):
         self._colour: QColor | None = None
         self._strong: QColor | None = None
         self._lines_h = 0
-        self._cache: tuple | None = None
+        self._layouts: dict[tuple, tuple[QTextLayout, int]] = {}
         self._hfw: dict = {}
         self._size_dirty = False
         if name:
@@ -127,13 +128,17 @@ class Text(QWidget):
         return changed
 
     def _layout(self, width: int) -> tuple[QTextLayout, int]:
+        """The text laid out at ``width`` and its height: one layout serves the height asked for a width and
+        the paint at that width (a changed text is laid out once, not once for its size and again to paint)."""
         key = (self._plain, width, tuple(self._spans), self.font().key(), self._wrap, int(self._align),
                self._strong.rgba() if self._strong is not None else 0)
-        if self._cache is not None and self._cache[0] == key:
-            return self._cache[1], self._cache[2]
-        layout, h = self._make_layout(width)
-        self._cache = (key, layout, h)
-        return layout, h
+        hit = self._layouts.pop(key, None)
+        if hit is None:
+            hit = self._make_layout(width)
+            while len(self._layouts) >= _LAYOUTS_KEPT:
+                self._layouts.pop(next(iter(self._layouts)))
+        self._layouts[key] = hit  # the most recently used last
+        return hit
 
     def _make_layout(self, width: int) -> tuple[QTextLayout, int]:
         layout = QTextLayout(self._plain, self.font())
@@ -194,7 +199,7 @@ class Text(QWidget):
         if h is None:  # layouts ask again and again for the same widths: remember the answers
             if len(self._hfw) > 64:
                 self._hfw.clear()
-            h = self._hfw[key] = max(self._reserved(), self._make_layout(max(1, width))[1])
+            h = self._hfw[key] = max(self._reserved(), self._layout(max(1, width))[1])
         return h
 
     def _reserved(self) -> int:
