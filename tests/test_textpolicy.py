@@ -8,6 +8,8 @@ from __future__ import annotations
 import json
 
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
 from ventset import cases, partslib
 from ventset.cli import main
@@ -145,3 +147,38 @@ def test_every_text_field_at_and_past_its_limit(key):
     with pytest.raises(InputError) as err:
         check_text(key, "a" * (spec.max_chars + 1))
     assert err.value.key == key and f"{spec.max_chars:,}" in err.value.reason
+
+
+# The refused characters by Unicode's own classes (Python's unicodedata, the outside reference): controls (Cc),
+# surrogates (Cs), the direction controls and the two line separators; a multiline field keeps line feed and tab.
+_DIRECTION = "\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069\u200e\u200f\u061c"
+
+
+def _refused_by_unicode(ch: str, multiline: bool) -> bool:
+    import unicodedata
+
+    if multiline and ch in "\n\t":
+        return False
+    return unicodedata.category(ch) in ("Cc", "Cs") or ch in _DIRECTION or ch in "\u2028\u2029"
+
+
+def _first_refused(text: str, multiline: bool) -> str | None:
+    return next((ch for ch in text if _refused_by_unicode(ch, multiline)), None)
+
+
+def test_every_code_point_is_judged_as_unicode_classes_it():
+    from ventset.textpolicy import bad_character
+
+    for code in range(0x3000):  # the controls, surrogates and separators all lie below U+3000 …
+        ch = chr(code)
+        for multiline in (False, True):
+            assert (bad_character(ch, multiline) == ch) == _refused_by_unicode(ch, multiline), hex(code)
+    for code in (0xD800, 0xDBFF, 0xDC00, 0xDFFF, 0xFEFF, 0x10FFFF):  # … and these beyond it
+        assert (bad_character(chr(code)) is not None) == _refused_by_unicode(chr(code), False), hex(code)
+
+
+@given(st.text(alphabet=st.characters(codec=None), max_size=60), st.booleans())
+def test_the_first_refused_character_is_the_one_named(text, multiline):
+    from ventset.textpolicy import bad_character
+
+    assert bad_character(text, multiline) == _first_refused(text, multiline)

@@ -15,6 +15,7 @@ user text shows it as plain text.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 from ventset.errors import BIDI_CONTROLS, LINE_SEPARATORS, InputError, register_labels
@@ -53,16 +54,20 @@ TEXT_FIELDS: dict[str, TextSpec] = {t.key: t for t in (
 register_labels({k: t.label for k, t in TEXT_FIELDS.items() if k not in ("species-text", "choice")})
 
 
+def _refused(keep: str) -> re.Pattern[str]:
+    """One character class of what the policy refuses: C0 and C1 controls (U+0000-001F, U+007F-009F), surrogates
+    (text that was not valid UTF-8), direction controls and line separators; ``keep`` is let through."""
+    chars = sorted({*map(chr, [*range(0x20), *range(0x7F, 0xA0)]), *BIDI_CONTROLS, *LINE_SEPARATORS} - set(keep))
+    return re.compile("[" + "".join(re.escape(c) for c in chars) + "\ud800-\udfff]")
+
+
+_REFUSED = {False: _refused(""), True: _refused("\n\t")}
+
+
 def bad_character(text: str, multiline: bool = False) -> str | None:
-    """The first character of ``text`` the policy refuses, or None."""
-    for ch in text:
-        code = ord(ch)
-        if ch in "\n\t" and multiline:
-            continue
-        if code < 0x20 or 0x7F <= code < 0xA0 or ch in BIDI_CONTROLS or ch in LINE_SEPARATORS \
-                or 0xD800 <= code <= 0xDFFF:
-            return ch
-    return None
+    """The first character of ``text`` the policy refuses, or None (``multiline``: line breaks and tabs allowed)."""
+    m = _REFUSED[multiline].search(text)
+    return m.group() if m else None
 
 
 def _why(ch: str) -> str:
