@@ -180,10 +180,19 @@ def test_custom_species_is_named_and_planned_from_its_base():
     assert any(a.name == "Species values" and a.value == "Cat" for a in p.assumptions)
 
 
-def test_same_compares_plot_data_element_by_element():
-    """plotdata.same: numpy.array_equal with NaN equal to NaN (numpy's own definition, equal_nan=True),
-    through tuples and dataclasses; a changed element, shape or type is a difference."""
+def test_same_compares_plot_data_bit_for_bit():
+    """plotdata.same: arrays the same bits (a NaN equals the same NaN), through tuples and dataclasses; a changed
+    element, shape, dtype or type is a difference. Wherever numpy.array_equal (equal_nan=True, numpy's own
+    definition) says two arrays differ, so does same: it never skips a redraw that was due."""
     a = np.array([1.0, np.nan, 3.0])
+    rng = np.random.default_rng(7)
+    for _ in range(200):
+        x = rng.choice([0.0, -0.0, 1.0, np.nan, 2.5], size=4)
+        y = rng.choice([0.0, -0.0, 1.0, np.nan, 2.5], size=4)
+        if not np.array_equal(x, y, equal_nan=True):
+            assert not plotdata.same(x, y)
+    assert not plotdata.same(np.array([1, 2]), np.array([1.0, 2.0]))
+    assert not plotdata.same(np.array([0.0]), np.array([-0.0]))  # equal, not the same bits: drawn once more
     assert plotdata.same(a, a.copy()) and not plotdata.same(a, np.array([1.0, np.nan, 3.5]))
     assert not plotdata.same(a, a[:2]) and not plotdata.same(a, list(a))
     assert plotdata.same((a, "mmHg", 2.0), (a.copy(), "mmHg", 2.0))

@@ -139,12 +139,14 @@ def ti_at_rates(plan: Plan, rates_per_min: np.ndarray) -> np.ndarray:
 
 
 def same(a: object, b: object) -> bool:
-    """True when two plot data records (or tuples of them) hold equal values, arrays compared element by
-    element (NaN equal to NaN): a view whose data is the same need not be drawn again."""
+    """True when two plot data records (or tuples of them) hold equal values: a view whose data is the same
+    need not be drawn again. Arrays are compared bit for bit (a NaN equals the same NaN), one memory comparison
+    instead of element by element; the only values that are equal but not the same bits (0.0 and -0.0, NaNs
+    made differently) count as changed, which redraws the view once."""
     if type(a) is not type(b):
         return False
     if isinstance(a, np.ndarray) and isinstance(b, np.ndarray):
-        return a.shape == b.shape and bool(np.array_equal(a, b, equal_nan=a.dtype.kind == "f"))
+        return a.shape == b.shape and a.dtype == b.dtype and a.tobytes() == b.tobytes()
     if isinstance(a, tuple | list) and isinstance(b, tuple | list):
         return len(a) == len(b) and all(same(x, y) for x, y in zip(a, b, strict=True))
     if hasattr(a, "__dataclass_fields__"):
