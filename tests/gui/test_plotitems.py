@@ -5,11 +5,11 @@ Curve has the pixels of a PlotCurveItem with the same pen and data."""
 import numpy as np
 import pyqtgraph as pg
 import pytest
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QRectF, Qt
 from PySide6.QtGui import QBrush, QColor, QPen
 
 from ventset.gui.plotarea import PlotView
-from ventset.gui.plotitems import Curve, Marker
+from ventset.gui.plotitems import Curve, Marker, Picture
 
 
 def _pen(colour: str, width: float) -> QPen:
@@ -97,3 +97,39 @@ def test_a_curve_with_a_fill_is_painted_by_pyqtgraph(qtbot):
         item.setData([0.0, 20.0, 40.0, 80.0], [3.0, 25.0, 12.0, 20.0])
         view.addItem(item)
     assert ref_view.grab().toImage() == our_view.grab().toImage()
+
+
+def _shifted_by_at_most_one_pixel(ref, ours) -> bool:
+    """Every pixel that differs has the colour ours shows within one pixel of it in ref (a cell edge moved by
+    one pixel at most: the two nearest-pixel scalings round a cell boundary that falls inside a pixel apart)."""
+    w, h = ref.width(), ref.height()
+    for y in range(h):
+        for x in range(w):
+            c = ours.pixel(x, y)
+            if c != ref.pixel(x, y) and not any(
+                    ref.pixel(min(w - 1, max(0, x + dx)), min(h - 1, max(0, y + dy))) == c
+                    for dx in (-1, 0, 1) for dy in (-1, 0, 1)):
+                return False
+    return True
+
+
+def test_a_picture_shows_the_cells_an_image_item_shows(qtbot):
+    """Picture against ImageItem (row-major, the same array, the same rectangle): the same cells, colours and
+    place; at most a cell edge one pixel apart (Qt's fast scaling of its own pixel format rounds edges that fall
+    inside a pixel differently from its general path, which ImageItem's RGBA image takes)."""
+    ref_view, our_view = _view(qtbot), _view(qtbot)
+    ref, ours = pg.ImageItem(axisOrder="row-major"), Picture()
+    ref_view.addItem(ref)
+    our_view.addItem(ours)
+    rng = np.random.default_rng(3)
+    lut = np.array([[60, 60, 70, 255], [235, 235, 240, 255], [250, 215, 170, 255], [245, 190, 190, 255]], np.uint8)
+    cells = np.repeat(np.repeat(rng.integers(0, 4, (12, 12)), 10, axis=0), 10, axis=1)  # 120 × 120, blocks
+    for rect in (QRectF(0, 0, 80, 30), QRectF(3.3, 1.7, 61.9, 24.2)):
+        for item in (ref, ours):
+            item.setImage(lut[cells], autoLevels=False)
+            item.setRect(rect)
+        a, b = ref_view.grab().toImage(), our_view.grab().toImage()
+        assert np.array_equal(ours.image, ref.image)
+        assert _shifted_by_at_most_one_pixel(a, b)
+        moved = sum(a.pixel(x, y) != b.pixel(x, y) for y in range(a.height()) for x in range(a.width()))
+        assert moved < 0.01 * a.width() * a.height()

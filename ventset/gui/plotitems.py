@@ -10,6 +10,11 @@ QGraphicsPixmapItem that ignores the view's scaling, so Qt paints it in C++.
 use (the same calls PlotCurveItem makes for it); anything else (a fill, a shadow pen, an export, OpenGL) is
 painted by PlotCurveItem itself.
 
+``Picture``: an opaque RGBA image stretched over a rectangle of the view, as pyqtgraph's ImageItem shows one
+given ``setImage`` and ``setRect``. ImageItem hands Qt the array as an RGBA8888 image, which the raster engine
+converts on every paint; a Picture converts it once, to the screen's own format (exact for opaque pixels), and
+draws it with the one call ImageItem.paint makes.
+
 tests/gui/test_plotitems.py compares the pixels with pyqtgraph's own items.
 """
 
@@ -19,8 +24,8 @@ import numpy as np
 import pyqtgraph as pg
 from pyqtgraph.graphicsItems.PlotCurveItem import OpenGLHelpers
 from pyqtgraph.graphicsItems.ScatterPlotItem import renderSymbol
-from PySide6.QtCore import Qt
-from PySide6.QtGui import QBrush, QPainter, QPen, QPixmap
+from PySide6.QtCore import QRectF, Qt
+from PySide6.QtGui import QBrush, QImage, QPainter, QPen, QPixmap, QTransform
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsPixmapItem
 
 
@@ -87,3 +92,47 @@ class Curve(pg.PlotCurveItem):
         p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
         p.setPen(pen)
         p.drawPath(self.getPath())
+
+
+class Picture(QGraphicsItem):
+    """An opaque image (rows × columns × RGBA, uint8; row 0 at the rectangle's top in view coordinates)."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.image: np.ndarray | None = None  # the array shown, as ImageItem.image holds it
+        self._qimage: QImage | None = None
+        self._bounds = QRectF()
+        self._rect: QRectF | None = None
+
+    def setImage(self, image: np.ndarray, autoLevels: bool = False) -> None:  # noqa: N802,N803 - ImageItem's names
+        rgba = np.ascontiguousarray(image, dtype=np.uint8)
+        if rgba.ndim != 3 or rgba.shape[2] != 4:
+            raise ValueError(f"Picture needs rows × columns × RGBA, not {rgba.shape}")
+        h, w = rgba.shape[:2]
+        view = QImage(rgba.data, w, h, 4 * w, QImage.Format.Format_RGBA8888)  # a view of the array ...
+        self._qimage = view.convertToFormat(QImage.Format.Format_ARGB32_Premultiplied)  # ... copied
+        self.image = rgba
+        if QRectF(0, 0, w, h) != self._bounds:
+            self.prepareGeometryChange()
+            self._bounds = QRectF(0, 0, w, h)
+        if self._rect is not None:
+            self.setRect(self._rect)
+        self.update()
+
+    def setRect(self, rect: QRectF) -> None:  # noqa: N802 - ImageItem's name
+        """Stretch the image over ``rect`` (view coordinates), the transform ImageItem.setRect makes."""
+        self._rect = QRectF(rect)
+        if self.image is None:
+            return
+        h, w = self.image.shape[:2]
+        tr = QTransform()
+        tr.translate(rect.left(), rect.top())
+        tr.scale(rect.width() / w, rect.height() / h)
+        self.setTransform(tr)
+
+    def boundingRect(self) -> QRectF:  # noqa: N802 - Qt override
+        return self._bounds
+
+    def paint(self, p: QPainter, opt, widget=None) -> None:
+        if self._qimage is not None:
+            p.drawImage(self._bounds, self._qimage)  # as ImageItem.paint draws it

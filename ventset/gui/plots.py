@@ -25,7 +25,7 @@ from PySide6.QtWidgets import (
 
 from ventset import plotdata
 from ventset.gui.plotarea import PlotArea, PlotView
-from ventset.gui.plotitems import Curve, Marker
+from ventset.gui.plotitems import Curve, Marker, Picture
 from ventset.gui.text import Text, plain
 from ventset.gui.theme import DAY, Theme, scaled_font
 from ventset.model import Plan
@@ -446,7 +446,7 @@ class SettingsMapPlot(PlotCard):
         self.plot = self.widget.getPlotItem()
         self.plot.setLabel("bottom", "Tidal volume at the patient (mL)")
         self.plot.setLabel("left", "Rate (/min)")
-        self.image = pg.ImageItem(axisOrder="row-major")
+        self.image = Picture()
         self.plot.addItem(self.image)
         # All lines of equal PaCO2 but the target in one item (NaN between them), the target in another.
         self.iso_other = Curve(connect="finite")
