@@ -60,3 +60,19 @@ def test_one_layout_serves_the_height_and_the_paint(qtbot, monkeypatch):
     for w in range(100, 100 + 10 * text_module._LAYOUTS_KEPT * 3, 10):  # a layout pass asking many widths
         t.heightForWidth(w)
     assert len(t._layouts) <= text_module._LAYOUTS_KEPT
+
+
+def test_a_new_font_is_laid_out_afresh(qtbot):
+    """The font's key is kept between lookups: after setFont the text is measured and drawn in the new font, as a
+    Text made with that font from the start."""
+    kept = _shown(qtbot, CAUTION.format("92"), wrap=True)
+    kept.grab()
+    font = kept.font()
+    font.setPointSizeF(font.pointSizeF() * 1.4)
+    kept.setFont(font)
+    fresh = _shown(qtbot, "", wrap=True)
+    fresh.setFont(font)
+    fresh.setText(CAUTION.format("92"))
+    assert kept.heightForWidth(240) == fresh.heightForWidth(240) > _qt_height(CAUTION.format("92"), QWidget().font(),
+                                                                               240)
+    assert kept.grab().toImage() == fresh.grab().toImage()

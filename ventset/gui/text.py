@@ -130,7 +130,7 @@ class Text(QWidget):
     def _layout(self, width: int) -> tuple[QTextLayout, int]:
         """The text laid out at ``width`` and its height: one layout serves the height asked for a width and
         the paint at that width (a changed text is laid out once, not once for its size and again to paint)."""
-        key = (self._plain, width, tuple(self._spans), self.font().key(), self._wrap, int(self._align),
+        key = (self._plain, width, tuple(self._spans), _font_key(self), self._wrap, int(self._align),
                self._strong.rgba() if self._strong is not None else 0)
         hit = self._layouts.pop(key, None)
         if hit is None:
@@ -178,7 +178,7 @@ class Text(QWidget):
             return 0
         if not self._wrap:
             return self.fontMetrics().horizontalAdvance(self._plain)
-        key = (self._plain, -1, self.font().key())  # beside the heights for widths (width -1: not a width)
+        key = (self._plain, -1, _font_key(self))  # beside the heights for widths (width -1: not a width)
         w = self._hfw.get(key)
         if w is None:  # asked on every plan (the tiles' reflow): a text that has not changed is not laid out again
             if len(self._hfw) > 64:
@@ -194,7 +194,7 @@ class Text(QWidget):
     def heightForWidth(self, width: int) -> int:  # noqa: N802 - Qt override
         if not self._plain:
             return self._reserved()
-        key = (self._plain, width, self.font().key())
+        key = (self._plain, width, _font_key(self))
         h = self._hfw.get(key)
         if h is None:  # layouts ask again and again for the same widths: remember the answers
             if len(self._hfw) > 64:
@@ -238,6 +238,7 @@ class Text(QWidget):
         from PySide6.QtCore import QEvent
 
         if e.type() == QEvent.Type.FontChange:
+            self.__dict__.pop("_fkey", None)
             self.updateGeometry()
 
     # ------------------------------------------------------------------ paint
@@ -251,6 +252,15 @@ class Text(QWidget):
         y = rect.top() + max(0, (rect.height() - h) // 2) if not self._wrap else rect.top()
         layout.draw(p, _pt(rect.left(), y))
         p.end()
+
+
+def _font_key(widget: QWidget) -> str:
+    """``widget``'s font key, asked on every layout lookup: kept until its font changes (the widgets here forget
+    it on FontChange)."""
+    key = widget.__dict__.get("_fkey")
+    if key is None:
+        key = widget.__dict__["_fkey"] = widget.font().key()
+    return key
 
 
 def _pt(x: float, y: float):
@@ -322,7 +332,7 @@ class Reading(QWidget):
     def width_at(self, scale: float) -> int:
         """Pixels the reading needs with the number at ``scale`` × the application font (unit at its own size,
         or smaller in proportion when the number is smaller than the unit's size)."""
-        key = (self._value, self._unit, scale, self.font().key())
+        key = (self._value, self._unit, scale, _font_key(self))
         if self._width_at is not None and self._width_at[0] == key:
             return self._width_at[1]
         w = self._width(self._font(scale, True), self._font(min(self._unit_scale, scale), False))
@@ -331,7 +341,7 @@ class Reading(QWidget):
 
     def fitted_fonts(self) -> tuple[QFont, QFont]:
         """The largest number and unit fonts, down from the full size, whose text fits the widget's width."""
-        key = (self._value, self._unit, self.width(), self.font().key())
+        key = (self._value, self._unit, self.width(), _font_key(self))
         if self._fit is not None and self._fit[0] == key:
             return self._fit[1], self._fit[2]
         vf, uf, scale = self._vf, self._uf, self._value_scale
@@ -352,6 +362,7 @@ class Reading(QWidget):
         from PySide6.QtCore import QEvent
 
         if e.type() == QEvent.Type.FontChange:
+            self.__dict__.pop("_fkey", None)
             self._vf = self._font(self._value_scale, True)
             self._uf = self._font(self._unit_scale, False)
             self._fit = None
