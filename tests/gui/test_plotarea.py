@@ -62,3 +62,30 @@ def test_plot_area_lists_what_was_added_and_makes_no_menu(qtbot):
     assert area.items == [curve]
     assert area.vb.menu is None
     assert not any(area.vb.state["mouseEnabled"])
+
+
+def _tick_texts(axis) -> list[str]:
+    img = QImage(10, 10, QImage.Format.Format_ARGB32_Premultiplied)
+    p = QPainter(img)
+    try:
+        specs = axis.generateDrawSpecs(p)
+    finally:
+        p.end()
+    return [text for _rect, _flags, text in specs[2]] if specs else []
+
+
+def test_ticks_read_the_values_when_the_si_prefix_is_turned_off_on_a_small_range(qtbot):
+    """Turning the SI prefix off while the range is inside 0-1 (a mouse's tidal volumes in mL) must leave the
+    values as they are: pyqtgraph 0.14 keeps a ×1000 prefix then, and 0.1-0.4 read 100-400 under 'mL'."""
+    view = PlotView()
+    qtbot.addWidget(view)
+    view.resize(420, 260)
+    view.getPlotItem().setLabel("bottom", "Tidal volume at the patient (mL)")
+    view.getPlotItem().vb.setRange(xRange=(0, 0.5), yRange=(0, 250), padding=0)
+    view.show()
+    qtbot.waitExposed(view)
+    ax = view.getAxis("bottom")
+    ax.enableAutoSIPrefix(False)  # as the plots' style does, on every change of theme
+    texts = _tick_texts(ax)
+    assert texts and all(0.0 <= float(t) <= 0.5 for t in texts), texts  # within the view box's own range
+    assert "0.2" in texts and ax.labelString().count("(mL)") == 1 and "x0.001" not in ax.labelString()

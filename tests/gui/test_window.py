@@ -410,3 +410,30 @@ def test_species_chooser_plans_a_species_not_listed_by_group(qtbot, window):
     p = window.controller.plan
     assert p.resolved.species == "taxon:marsupial" and p.request.patient.taxon == "marsupial"
     assert "TAXON_ONLY" in {c.code for c in p.cautions}
+
+
+def test_a_theme_chosen_while_a_mouse_is_shown_keeps_every_axis_in_its_own_units(qtbot, window):
+    """A mouse's map spans 0-0.5 mL; after a change of theme (which styles every axis again) each axis still
+    labels the values of its view box's own range (pyqtgraph 0.14 kept a ×1000 prefix: 100-400 under 'mL'),
+    and a cat shown afterwards reads 0-80 mL again."""
+    from tests.gui.test_plotarea import _tick_texts
+
+    window.form.change_species("mouse")
+    type_into(qtbot, window, "mass", "0.03")
+    window.controller.flush()
+    for theme in ("night", "day"):
+        window.set_theme(theme)
+        for card in window.plot_cards:
+            vb = card.plot.vb if hasattr(card, "plot") else None
+            if vb is None:
+                continue
+            (x0, x1), _ = vb.viewRange()
+            ax = card.plot.getAxis("bottom")
+            texts = [t for t in _tick_texts(ax) if t]
+            assert texts, card.objectName()
+            assert all(x0 - 1e-9 <= float(t) <= x1 + 1e-9 for t in texts), (card.objectName(), texts, (x0, x1))
+    window.form.change_species("cat")
+    type_into(qtbot, window, "mass", "4.2")
+    window.controller.flush()
+    texts = _tick_texts(window.map_plot.plot.getAxis("bottom"))
+    assert max(float(t) for t in texts if t) <= 80

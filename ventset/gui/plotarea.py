@@ -27,6 +27,18 @@ class Axis(pg.AxisItem):
 
     _label_html: str | None = None
 
+    def updateAutoSIPrefix(self) -> None:  # noqa: N802 - pyqtgraph's name
+        """With the SI prefix turned off the values are shown as they are. pyqtgraph 0.14 still works out a
+        prefix for the range the axis has when the prefix is turned off (a range inside 0-1 without units
+        gives ×1000) and keeps it: a mouse's 0.1-0.4 mL tidal volumes were labelled 100-400 after a change
+        of theme, under a label that still said mL."""
+        if self.autoSIPrefix:
+            super().updateAutoSIPrefix()
+            return
+        self.autoSIPrefixScale = 1.0
+        self.labelUnitPrefix = ""
+        self._updateLabel()
+
     def _updateLabel(self) -> None:  # noqa: N802 - pyqtgraph's name
         html = self.labelString()
         if html != self._label_html:
