@@ -35,6 +35,20 @@ if TYPE_CHECKING:
 PART_COLUMNS = ("Name", "Volume (mL)", "Note", "Measured by", "Measured on")
 
 
+
+def _button_row(parent: QWidget, layout: QVBoxLayout, *buttons: tuple[str, object]) -> list[QPushButton]:
+    """A row of push buttons (text, slot) at the left of ``layout``; the buttons, in order."""
+    row = QHBoxLayout()
+    made = []
+    for text, slot in buttons:
+        b = QPushButton(text, parent)
+        b.clicked.connect(slot)
+        row.addWidget(b)
+        made.append(b)
+    row.addStretch(1)
+    layout.addLayout(row)
+    return made
+
 class ClinicPartsDialog(QDialog):
     """The clinic's own parts and presets (editable), and the shipped catalogue (read only)."""
 
@@ -70,17 +84,9 @@ class ClinicPartsDialog(QDialog):
         self.parts_table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
         self.parts_table.itemChanged.connect(self._part_edited)
         ol.addWidget(self.parts_table, 1)
-        row = QHBoxLayout()
-        self.add_part_button = QPushButton("New part…", own)
-        self.add_part_button.clicked.connect(self.new_part)
-        self.remove_part_button = QPushButton("Remove", own)
-        self.remove_part_button.clicked.connect(self.remove_part)
-        self.use_part_button = QPushButton("Add to the current circuit", own)
-        self.use_part_button.clicked.connect(self.use_part)
-        for b in (self.add_part_button, self.remove_part_button, self.use_part_button):
-            row.addWidget(b)
-        row.addStretch(1)
-        ol.addLayout(row)
+        self.add_part_button, self.remove_part_button, self.use_part_button = _button_row(
+            own, ol, ("New part…", self.new_part), ("Remove", self.remove_part),
+            ("Add to the current circuit", self.use_part))
         self.tabs.addTab(own, "This clinic's parts")
 
         presets = QWidget(self.tabs)
@@ -92,17 +98,9 @@ class ClinicPartsDialog(QDialog):
         self.preset_table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
         self.preset_table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
         pl.addWidget(self.preset_table, 1)
-        row = QHBoxLayout()
-        self.save_preset_button = QPushButton("Save the current circuit as a preset…", presets)
-        self.save_preset_button.clicked.connect(self.save_preset)
-        self.use_preset_button = QPushButton("Use for the current case", presets)
-        self.use_preset_button.clicked.connect(self.use_preset)
-        self.remove_preset_button = QPushButton("Remove", presets)
-        self.remove_preset_button.clicked.connect(self.remove_preset)
-        for b in (self.save_preset_button, self.use_preset_button, self.remove_preset_button):
-            row.addWidget(b)
-        row.addStretch(1)
-        pl.addLayout(row)
+        self.save_preset_button, self.use_preset_button, self.remove_preset_button = _button_row(
+            presets, pl, ("Save the current circuit as a preset…", self.save_preset),
+            ("Use for the current case", self.use_preset), ("Remove", self.remove_preset))
         self.tabs.addTab(presets, "Circuit presets")
         from ventset.gui.clinic_machines import MachinesTab
 
